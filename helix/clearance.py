@@ -1,0 +1,139 @@
+"""Clear headroom along every thread: the gap to whatever lies above, less structure.
+
+At a plan position of thread ``T`` the surfaces overhead are the other turns of every
+thread whose annulus covers that radius (``T`` itself a turn higher, the other
+thread of a double helix) and, if the project has one, a cover slab over the helix.
+Clear headroom is the vertical gap to the nearest of them minus the structural depth
+(slab plus whatever hangs below it); for the cover, its soffit level is used directly.
+
+The gap along a thread is piecewise quadratic in plan angle, so its minimum lies at
+a breakpoint of one of the alignments involved or where the gap is stationary inside
+a piece.  :func:`minimum_headroom` evaluates exactly those points; :func:`headroom`
+evaluates any points, for figures and for brute-force cross-checks.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .geometry import TWO_PI, Helix, Thread
+from .project import Structure
+
+__all__ = ["HeadroomPoint", "overhead_shifts", "headroom", "minimum_headroom", "check_radii"]
+
+
+@dataclass(frozen=True)
+class HeadroomPoint:
+    clear: float  # clear headroom, m (inf where nothing is overhead)
+    gap: float  # level difference to the surface (or soffit) overhead, m
+    thread: int
+    theta: float  # unrolled plan angle on the thread, rad
+    radius: float
+    above: str  # what is overhead
+
+
+def overhead_shifts(helix: Helix, i: int) -> list[tuple[int, float]]:
+    """``(j, shift)`` pairs: thread ``j`` at ``theta + shift`` lies over thread ``i`` at
+    ``theta`` in plan (same bearing), for every turn that can overlap in range."""
+    t = helix.threads[i]
+    pairs = []
+    for j, u in enumerate(helix.threads):
+        if u.hand != t.hand:
+            raise ValueError("threads on one axis must ascend the same way round")
+        base = t.hand * (t.start_bearing - u.start_bearing)
+        lo = math.floor((u.profile.start - t.profile.end - base) / TWO_PI) - 1
+        hi = math.ceil((u.profile.end - t.profile.start - base) / TWO_PI) + 1
+        for k in range(lo, hi + 1):
+            shift = base + TWO_PI * k
+            if j == i and abs(shift) < 1e-9:
+                continue
+            if u.profile.start - shift > t.profile.end or u.profile.end - shift < t.profile.start:
+                continue
+            pairs.append((j, shift))
+    return pairs
+
+
+def check_radii(thread: Thread) -> tuple[float, float, float]:
+    """Radii at which headroom is evaluated: the gap is linear across the carriageway
+    (cross-falls may differ between threads), so the kerbs and centre line bound it."""
+    return (thread.inner_radius, thread.centre_radius, thread.outer_radius)
+
+
+def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float):
+    """Clear headroom and gap over thread ``i`` at plan angles ``theta`` and ``radius``.
+
+    Returns ``(clear, gap, above)``: arrays of clear headroom and gap (``inf`` where
+    nothing is overhead) and a list naming what is overhead at each point.
+    """
+    t = helix.threads[i]
+    th = np.atleast_1d(np.asarray(theta, float))
+    z = t.level(th, radius)
+    best = np.full(th.shape, np.inf)
+    clear = np.full(th.shape, np.inf)
+    above = np.full(th.shape, -1, dtype=int)
+    labels: list[str] = []
+    for j, shift in overhead_shifts(helix, i):
+        u = helix.threads[j]
+        if not u.covers(radius):
+            continue
+        gap = u.level(th + shift, radius) - z
+        take = np.isfinite(gap) & (gap > 1e-9) & (gap < best)
+        if np.any(take):
+            labels.append(u.name if j != i else "the same thread, a turn higher")
+            best = np.where(take, gap, best)
+            clear = np.where(take, gap - structure.depth, clear)
+            above = np.where(take, len(labels) - 1, above)
+    if structure.cover_soffit is not None:
+        gap = structure.cover_soffit - z
+        take = np.isfinite(gap) & (gap < clear)
+        if np.any(take):
+            labels.append("the cover slab")
+            best = np.where(take, gap, best)
+            clear = np.where(take, gap, clear)
+            above = np.where(take, len(labels) - 1, above)
+    names = [labels[a] if a >= 0 else "nothing" for a in above]
+    return clear, best, names
+
+
+def _critical_angles(helix: Helix, i: int) -> np.ndarray:
+    """Breakpoints of every alignment overhead, mapped onto thread ``i``, and the
+    stationary points of each gap between them."""
+    t = helix.threads[i]
+    pts = [t.profile.t]
+    shifts = overhead_shifts(helix, i)
+    for j, shift in shifts:
+        pts.append(helix.threads[j].profile.t - shift)
+    grid = np.unique(np.clip(np.concatenate(pts), t.profile.start, t.profile.end))
+    extra = []
+    eps = 1e-9
+    for j, shift in shifts:
+        u = helix.threads[j]
+        a, b = grid[:-1] + eps, grid[1:] - eps
+        ok = b > a
+        da = u.profile.slope(a + shift) - t.profile.slope(a)
+        db = u.profile.slope(b + shift) - t.profile.slope(b)
+        cross = ok & np.isfinite(da) & np.isfinite(db) & (da * db < 0)
+        if np.any(cross):
+            extra.append(a[cross] + (b[cross] - a[cross]) * da[cross] / (da[cross] - db[cross]))
+    # Both sides of each breakpoint: the overhead surface may change there.
+    return np.unique(np.concatenate([grid, grid[1:-1] - eps, grid[1:-1] + eps, *extra]))
+
+
+def minimum_headroom(helix: Helix, structure: Structure) -> HeadroomPoint | None:
+    """The smallest clear headroom over all threads, exact at alignment breakpoints.
+
+    ``None`` when nothing lies above any part of any thread.
+    """
+    best: HeadroomPoint | None = None
+    for i, t in enumerate(helix.threads):
+        angles = _critical_angles(helix, i)
+        for r in check_radii(t):
+            clear, gap, names = headroom(helix, structure, i, angles, r)
+            if not np.any(np.isfinite(clear)):
+                continue
+            k = int(np.argmin(clear))
+            if best is None or clear[k] < best.clear - 1e-12:
+                best = HeadroomPoint(float(clear[k]), float(gap[k]), i, float(angles[k]), r, names[k])
+    return best

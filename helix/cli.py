@@ -1,0 +1,113 @@
+"""The ``helix`` command: a thin shell over the Python API.
+
+Exit status: 0 every check passes, 1 a check fails, 2 bad input (one line on stderr).
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import tempfile
+from pathlib import Path
+
+from . import __version__
+from .errors import InputError
+
+EXAMPLES_CHECK = """example:
+  helix check configs/demo-metric.yaml -o out/metric
+  helix check configs/demo-imperial.yaml --json > result.json"""
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="helix",
+        description="Plan and check the helical ramps of multi-storey car parks.",
+        epilog="Exit status: 0 all checks pass, 1 a check fails, 2 bad input.",
+        formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--version", action="version", version=f"helix {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    check = sub.add_parser("check", help="evaluate the fixed design of a project file",
+                           description="Evaluate the fully specified helix of PROJECT and print "
+                                       "its checks.", epilog=EXAMPLES_CHECK,
+                           formatter_class=argparse.RawDescriptionHelpFormatter)
+    check.add_argument("project", help="project file (YAML)")
+    check.add_argument("-o", "--output", metavar="DIR",
+                       help="also write the figures (PNG and SVG) and result.json to DIR")
+    check.add_argument("--json", action="store_true", help="print the result as JSON instead of a table")
+    return parser
+
+
+_UMASK = os.umask(0)
+os.umask(_UMASK)
+
+
+def write_outputs(directory: Path, files: dict[str, bytes]) -> list[Path]:
+    """Write ``files`` into ``directory`` atomically, one file at a time.
+
+    Each file goes to a temporary name in the same folder and is renamed into place,
+    so a reader never sees half a file; files helix did not produce are untouched.
+    """
+    directory.mkdir(parents=True, exist_ok=True)
+    written = []
+    for name, data in files.items():
+        target = directory / name
+        fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=directory)
+        try:
+            with os.fdopen(fd, "wb") as fh:
+                fh.write(data)
+            os.chmod(tmp, 0o666 & ~_UMASK)
+            os.replace(tmp, target)
+        except BaseException:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
+            raise
+        written.append(target)
+    return written
+
+
+def _check(args) -> int:
+    from .evaluate import evaluate
+    from .project import load_project
+    from .results import check_table, to_dict, to_json
+
+    project = load_project(args.project)
+    try:
+        result = evaluate(project)
+    except ValueError as exc:  # geometry that cannot be built, e.g. landings too long
+        raise InputError(project.file, "design", f"{exc}; expected a design whose landings and "
+                         "transitions fit within each storey") from None
+    data = to_dict(result)
+    text = to_json(data)
+    if args.output:
+        from .figures import render_all
+        files = render_all(result)  # everything in memory first: a failure writes nothing
+        files["result.json"] = text.encode()
+        write_outputs(Path(args.output), files)
+    if args.json:
+        sys.stdout.write(text)
+    else:
+        sys.stdout.write(check_table(result))
+        if args.output:
+            sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
+    return 0 if result.ok else 1
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = _parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return 0
+    try:
+        if args.command == "check":
+            return _check(args)
+    except InputError as exc:
+        print(f"helix: error: {exc.line()}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        return 130
+    return 2  # pragma: no cover
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

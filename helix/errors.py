@@ -1,0 +1,160 @@
+"""Input errors, and a reader that walks YAML data keeping the key path for them.
+
+Every problem with a project, rule-set or vehicle file becomes one
+:class:`InputError` whose message is a single line::
+
+    configs/demo.yaml: levels[3].height: got '-3 m'; expected a positive length ...
+
+The command line prints that line and exits with status 2.
+"""
+from __future__ import annotations
+
+import difflib
+import math
+from pathlib import Path
+from typing import Any, Callable, Iterator
+
+from . import units
+
+__all__ = ["InputError", "Node"]
+
+
+class InputError(Exception):
+    """Bad input, located by file and key path."""
+
+    def __init__(self, file: str | Path, path: str, message: str):
+        self.file = str(file)
+        self.path = path
+        self.message = message
+        super().__init__(self.line())
+
+    def line(self) -> str:
+        where = f"{self.file}: {self.path}: " if self.path else f"{self.file}: "
+        return (where + self.message).replace("\n", " ")
+
+
+def _short(value: Any) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+class Node:
+    """A mapping, list or scalar from a YAML file, with its file name and key path.
+
+    Reading a key marks it as used; :meth:`done` then refuses any key that was not
+    read, suggesting the closest valid one.  That is how a typo such as
+    ``centre_raduis`` is caught instead of silently ignored.
+    """
+
+    def __init__(self, data: Any, file: str | Path, path: str = ""):
+        self.data = data
+        self.file = str(file)
+        self.path = path
+        self._used: set[str] = set()
+
+    # -- errors ------------------------------------------------------------------
+    def error(self, message: str, path: str | None = None) -> InputError:
+        return InputError(self.file, self.path if path is None else path, message)
+
+    def _key_path(self, key: str | int) -> str:
+        if isinstance(key, int):
+            return f"{self.path}[{key}]"
+        return f"{self.path}.{key}" if self.path else str(key)
+
+    # -- structure ---------------------------------------------------------------
+    def require_mapping(self) -> "Node":
+        if not isinstance(self.data, dict):
+            raise self.error(f"got {_short(self.data)}; expected a mapping of keys to values")
+        for key in self.data:
+            if not isinstance(key, str):
+                raise self.error(f"got key {_short(key)}; expected text keys")
+        return self
+
+    def has(self, key: str) -> bool:
+        return isinstance(self.data, dict) and key in self.data and self.data[key] is not None
+
+    def child(self, key: str, required: bool = True, default: Any = None) -> "Node | None":
+        self.require_mapping()
+        self._used.add(key)
+        if key not in self.data or self.data[key] is None:
+            if required:
+                raise self.error(f"missing key '{key}'", self._key_path(key))
+            return None if default is None else Node(default, self.file, self._key_path(key))
+        return Node(self.data[key], self.file, self._key_path(key))
+
+    def items(self) -> Iterator["Node"]:
+        """The elements of a list, each as a node with its index in the path."""
+        if not isinstance(self.data, list):
+            raise self.error(f"got {_short(self.data)}; expected a list")
+        for i, value in enumerate(self.data):
+            yield Node(value, self.file, self._key_path(i))
+
+    def keys(self) -> list[str]:
+        self.require_mapping()
+        return list(self.data)
+
+    def done(self, extra_valid: tuple[str, ...] = ()) -> None:
+        """Refuse keys that were never read."""
+        if not isinstance(self.data, dict):
+            return
+        valid = sorted(self._used | set(extra_valid))
+        for key in self.data:
+            if key not in self._used and key not in extra_valid:
+                close = difflib.get_close_matches(str(key), valid, n=1, cutoff=0.6)
+                hint = f"; did you mean '{close[0]}'?" if close else (
+                    f"; valid keys here: {', '.join(valid)}" if valid else "")
+                raise self.error(f"unknown key '{key}'{hint}", self._key_path(str(key)))
+
+    # -- scalars -----------------------------------------------------------------
+    def _convert(self, parse: Callable[[Any], float], what: str) -> float:
+        try:
+            return parse(self.data)
+        except units.UnitError as exc:
+            raise self.error(f"got {_short(self.data)}; expected {exc.expected}") from None
+
+    def length(self, *, positive: bool = False, non_negative: bool = False) -> float:
+        value = self._convert(units.parse_length, "length")
+        if positive and not value > 0:
+            raise self.error(f"got {_short(self.data)}; expected a positive length such as '3.15 m'")
+        if non_negative and value < 0:
+            raise self.error(f"got {_short(self.data)}; expected a length of zero or more such as '250 mm'")
+        return value
+
+    def gradient(self, *, non_negative: bool = True) -> float:
+        value = self._convert(units.parse_gradient, "gradient")
+        if non_negative and value < 0:
+            raise self.error(f"got {_short(self.data)}; expected a gradient of zero or more such as '8.33%'")
+        return value
+
+    def speed(self) -> float:
+        value = self._convert(units.parse_speed, "speed")
+        if not value > 0:
+            raise self.error(f"got {_short(self.data)}; expected a positive speed such as '15 km/h'")
+        return value
+
+    def number(self, *, positive: bool = False, non_negative: bool = False,
+               low: float | None = None, high: float | None = None, what: str = "a number") -> float:
+        value = self._convert(lambda v: units.parse_number(v, what), what)
+        bad = (positive and not value > 0) or (non_negative and value < 0) or \
+              (low is not None and value < low) or (high is not None and value > high) or \
+              not math.isfinite(value)
+        if bad:
+            raise self.error(f"got {_short(self.data)}; expected {what}")
+        return value
+
+    def angle(self) -> float:
+        return self._convert(units.parse_angle, "angle")
+
+    def text(self, choices: tuple[str, ...] | None = None) -> str:
+        if not isinstance(self.data, str) or not self.data.strip():
+            expected = f"one of {', '.join(choices)}" if choices else "text"
+            raise self.error(f"got {_short(self.data)}; expected {expected}")
+        value = self.data.strip()
+        if choices is not None and value not in choices:
+            close = difflib.get_close_matches(value, choices, n=1, cutoff=0.5)
+            hint = f" (did you mean '{close[0]}'?)" if close else ""
+            raise self.error(f"got {_short(self.data)}; expected one of {', '.join(choices)}{hint}")
+        return value
+
+    def is_imperial_length(self) -> bool:
+        return units.uses_imperial(self.data)

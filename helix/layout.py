@@ -1,0 +1,120 @@
+"""Build the threads of a helix from a project's design: radii, lanes, alignments.
+
+Single, double interleaved and concentric layouts all come out as
+:class:`~helix.geometry.Helix` objects; everything after this (headroom, checks,
+figures) works on threads and never asks which layout it has.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+from .alignment import build_profile, storey_run_slope
+from .geometry import TWO_PI, Helix, Lane, Thread
+from .project import DesignSpec, Project
+
+__all__ = ["build_helix", "landing_length", "transition_length", "cross_fall"]
+
+
+def landing_length(project: Project, spec: DesignSpec) -> float:
+    if spec.landing_length is not None:
+        return spec.landing_length
+    rule = project.rules.landing_length
+    return rule.value if rule is not None else 0.0
+
+
+def cross_fall(project: Project, spec: DesignSpec) -> float:
+    """Signed cross-fall: positive rises towards the outer kerb."""
+    if spec.cross_fall is not None:
+        value = spec.cross_fall
+    else:
+        rule = project.rules.cross_fall_min
+        value = rule.value if rule is not None else 0.0
+    return value if spec.cross_fall_inward else -value
+
+
+def transition_length(project: Project, spec: DesignSpec, run_gradient: float) -> float:
+    """Transition length at each end of a run of ``run_gradient`` (centre line).
+
+    A length fixed in the design applies to every run; otherwise the rule set's
+    transition applies where the change of grade from the landing exceeds its
+    threshold.
+    """
+    if spec.transition_length is not None:
+        return spec.transition_length
+    rule = project.rules.transition
+    if rule is None or abs(run_gradient) < rule.when_grade_change_over:
+        return 0.0
+    return rule.length
+
+
+def _lanes(inner: float, widths: tuple[float, ...], central: float, hand: int,
+           keep_right: bool, one_way_direction: str) -> tuple[Lane, ...]:
+    if len(widths) == 1:
+        return (Lane("lane", inner, inner + widths[0], one_way_direction),)
+    # Two-way: keeping right while ascending anticlockwise puts the up lane outside.
+    up_outside = (hand > 0) == keep_right
+    a = Lane("inner lane", inner, inner + widths[0], "down" if up_outside else "up")
+    b_in = a.outer_radius + central
+    b = Lane("outer lane", b_in, b_in + widths[1], "up" if up_outside else "down")
+    return (a, b)
+
+
+def _thread(project: Project, spec: DesignSpec, name: str, centre_radius: float,
+            start_bearing: float, traffic: str, keep_right: bool = True) -> Thread:
+    width = spec.carriageway_width
+    inner = centre_radius - 0.5 * width
+    levels = [lv.level for lv in project.levels]
+    plan = [TWO_PI * t for t in spec.turns_per_storey]
+    land = landing_length(project, spec) / centre_radius
+    landings = [land] * len(levels)
+    transitions = []
+    for s, rise in enumerate(project.storey_heights):
+        # First the run grade with no transition, to decide whether one is needed.
+        k0 = storey_run_slope(rise, plan[s], landings[s], landings[s + 1], 0.0)
+        g0 = k0 / centre_radius if math.isfinite(k0) else math.inf
+        transitions.append(transition_length(project, spec, g0) / centre_radius)
+    profile = build_profile(levels, plan, landings, transitions, spec.transition_kind, start=0.0)
+    lanes = _lanes(inner, spec.lane_widths, spec.central_kerb, spec.hand, keep_right, traffic)
+    return Thread(name=name, inner_radius=inner, outer_radius=inner + width, lanes=lanes,
+                  profile=profile, levels=tuple(range(len(levels))), start_bearing=start_bearing,
+                  hand=spec.hand, cross_fall=cross_fall(project, spec),
+                  traffic="up and down" if len(lanes) > 1 else traffic)
+
+
+def build_helix(project: Project, spec: DesignSpec | None = None) -> Helix:
+    """The helix of ``spec`` (default: the project's fixed design).
+
+    Raises ``ValueError`` when landings and transitions leave no room for a run.
+    """
+    spec = project.design if spec is None else spec
+    rc = spec.centre_radius
+    if spec.layout == "single":
+        direction = "up and down" if project.traffic == "two-way" else "up"
+        threads = (_thread(project, spec, "helix", rc, spec.start_bearing, direction),)
+    elif spec.layout == "double":
+        threads = (
+            _thread(project, spec, "up thread", rc, spec.start_bearing, "up"),
+            _thread(project, spec, "down thread", rc, spec.start_bearing + math.pi, "down"),
+        )
+    elif spec.layout == "concentric":
+        width = spec.carriageway_width
+        outer_rc = rc + width + spec.divider
+        threads = (
+            _thread(project, spec, "inner helix (up)", rc, spec.start_bearing, "up"),
+            _thread(project, spec, "outer helix (down)", outer_rc, spec.start_bearing, "down"),
+        )
+    else:  # pragma: no cover - the loader refuses other layouts
+        raise ValueError(f"unknown layout {spec.layout!r}")
+    rules = project.rules
+    outer = max(t.outer_radius for t in threads)
+    inner = min(t.inner_radius for t in threads)
+    return Helix(layout=spec.layout, traffic=project.traffic, threads=threads,
+                 structure_radius=outer + rules.clearance_outside() + project.structure.wall_thickness,
+                 core_radius=max(0.0, inner - rules.clearance_inside()),
+                 centre=(0.5 * project.site.width, 0.5 * project.site.depth))
+
+
+def with_design(project: Project, **changes) -> Project:
+    """A copy of ``project`` with some design values changed (for scripting and search)."""
+    return replace(project, design=replace(project.design, **changes))

@@ -1,0 +1,308 @@
+"""The project file: levels, structure, site, traffic, vehicle, rules and design.
+
+:func:`load_project` reads a YAML file (``yaml.safe_load``), converts every quantity
+to SI once, checks every key, and returns a frozen :class:`Project`.  Any problem
+raises :class:`~helix.errors.InputError` naming the file and the key path.
+
+>>> from helix.project import load_project                     # doctest: +SKIP
+>>> p = load_project("configs/demo-riverside.yaml")           # doctest: +SKIP
+>>> [round(h, 3) for h in p.storey_heights]                   # doctest: +SKIP
+[3.6, 3.0, 3.0, 3.0]
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+from .errors import InputError, Node
+from .library_files import read_yaml
+from .rules import RuleSet, load_rule_set
+from .vehicle import Vehicle, load_vehicle
+
+__all__ = ["Level", "Structure", "Site", "DesignSpec", "Project", "load_project",
+           "DEFAULT_RULE_SET", "DEFAULT_VEHICLE"]
+
+DEFAULT_RULE_SET = "conservative-default"
+DEFAULT_VEHICLE = "aashto-p"
+TRAFFIC = ("one-way", "two-way")
+LAYOUT_CHOICES = ("single", "double", "concentric")
+TRANSITION_KINDS = ("segment", "curve")
+
+
+@dataclass(frozen=True)
+class Level:
+    name: str
+    level: float  # finished floor level at the helix connection, m
+
+
+@dataclass(frozen=True)
+class Structure:
+    """What lies between one running surface and the clear space under it."""
+
+    slab_depth: float
+    hanging_depth: float = 0.0  # downstand beams, services, signs below the slab
+    wall_thickness: float = 0.0  # outer wall of the helix
+    cover_soffit: float | None = None  # underside of a roof or deck over the helix
+
+    @property
+    def depth(self) -> float:
+        """Structural depth to subtract from a stacked gap to get clear headroom."""
+        return self.slab_depth + self.hanging_depth
+
+
+@dataclass(frozen=True)
+class Site:
+    width: float  # along plan x
+    depth: float  # along plan y
+    margin: float = 0.0  # kept clear inside the footprint edges
+
+    @property
+    def usable(self) -> tuple[float, float]:
+        return (self.width - 2 * self.margin, self.depth - 2 * self.margin)
+
+
+@dataclass(frozen=True)
+class DesignSpec:
+    """A fully specified helix (later: or search ranges)."""
+
+    layout: str
+    centre_radius: float
+    lane_widths: tuple[float, ...]
+    turns_per_storey: tuple[float, ...]
+    central_kerb: float
+    divider: float
+    hand: int
+    start_bearing: float
+    landing_length: float | None
+    transition_length: float | None
+    transition_kind: str
+    cross_fall: float | None
+    cross_fall_inward: bool
+
+    @property
+    def carriageway_width(self) -> float:
+        return sum(self.lane_widths) + (self.central_kerb if len(self.lane_widths) > 1 else 0.0)
+
+
+@dataclass(frozen=True)
+class Project:
+    name: str
+    notes: str
+    file: str
+    units: str
+    levels: tuple[Level, ...]
+    structure: Structure
+    site: Site
+    traffic: str
+    vehicle: Vehicle
+    rules: RuleSet
+    design: DesignSpec
+
+    @property
+    def storey_heights(self) -> tuple[float, ...]:
+        return tuple(b.level - a.level for a, b in zip(self.levels, self.levels[1:]))
+
+    @property
+    def storeys(self) -> int:
+        return len(self.levels) - 1
+
+
+_TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design")
+
+
+def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
+    items = list(node.items())
+    if len(items) < 2:
+        raise node.error(f"got {len(items)} level(s); expected a list of at least two levels")
+    levels: list[Level] = []
+    imperial = False
+    names: set[str] = set()
+    for i, item in enumerate(items):
+        item.require_mapping()
+        name_node = item.child("name")
+        name = str(name_node.data).strip() if isinstance(name_node.data, (str, int, float)) \
+            and not isinstance(name_node.data, bool) else name_node.text()
+        if not name:
+            raise name_node.error("got an empty name; expected the level's name, e.g. 'Level 2'")
+        if name in names:
+            raise name_node.error(f"got {name!r} twice; expected a different name for each level")
+        names.add(name)
+        lv = item.child("level", required=False)
+        ht = item.child("height", required=False)
+        if lv is not None and ht is not None:
+            raise item.error("got both 'level' and 'height'; expected one of them")
+        if i == 0:
+            if ht is not None:
+                raise ht.error("the first level has no storey below it; expected 'level' (e.g. '0.00 m')")
+            z = lv.length() if lv is not None else 0.0
+            imperial |= lv is not None and lv.is_imperial_length()
+        elif ht is not None:
+            z = levels[-1].level + ht.length(positive=True)
+            imperial |= ht.is_imperial_length()
+        elif lv is not None:
+            z = lv.length()
+            imperial |= lv.is_imperial_length()
+            if z <= levels[-1].level:
+                raise lv.error(f"got {lv.data!r}, not above {levels[-1].name}; "
+                               "expected levels in ascending order")
+        else:
+            raise item.error("missing key 'level' or 'height'; expected a floor level or a storey height")
+        item.done()
+        levels.append(Level(name, z))
+    return tuple(levels), imperial
+
+
+def _structure(node: Node) -> Structure:
+    node.require_mapping()
+    slab = node.child("slab_depth").length(positive=True)
+    hang = node.child("hanging_depth", required=False)
+    wall = node.child("wall_thickness", required=False)
+    cover = node.child("cover_soffit", required=False)
+    node.done()
+    return Structure(slab_depth=slab,
+                     hanging_depth=hang.length(non_negative=True) if hang else 0.0,
+                     wall_thickness=wall.length(non_negative=True) if wall else 0.0,
+                     cover_soffit=cover.length() if cover else None)
+
+
+def _site(node: Node) -> Site:
+    node.require_mapping()
+    width = node.child("width").length(positive=True)
+    depth = node.child("depth").length(positive=True)
+    margin_node = node.child("margin", required=False)
+    margin = margin_node.length(non_negative=True) if margin_node else 0.0
+    if 2 * margin >= min(width, depth):
+        raise margin_node.error(f"got {margin_node.data!r}; expected a margin smaller than half the "  # type: ignore[union-attr]
+                                f"footprint ({min(width, depth) / 2:.2f} m)")
+    node.done()
+    return Site(width, depth, margin)
+
+
+def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpec:
+    node.require_mapping()
+    layout_node = node.child("layout", required=False)
+    layout = layout_node.text(LAYOUT_CHOICES) if layout_node else "single"
+    if layout != "single" and traffic == "two-way":
+        raise layout_node.error(  # type: ignore[union-attr]
+            f"a {layout} helix carries one-way traffic on each thread; expected layout 'single' "
+            "with traffic 'two-way', or traffic 'one-way'")
+    rc_node = node.child("centre_radius")
+    rc = rc_node.length(positive=True)
+
+    lw = node.child("lane_width", required=False)
+    n_lanes = 2 if traffic == "two-way" else 1
+    if lw is None:
+        default = rules.lane_width_one_way.value if rules.lane_width_one_way else 3.65
+        if traffic == "two-way" and rules.lane_width_two_way:
+            default = 0.5 * rules.lane_width_two_way.value
+        widths = (default,) * n_lanes
+    elif isinstance(lw.data, list):
+        widths = tuple(item.length(positive=True) for item in lw.items())
+        if len(widths) != n_lanes:
+            raise lw.error(f"got {len(widths)} lane widths; expected {n_lanes} for {traffic} traffic")
+    else:
+        widths = (lw.length(positive=True),) * n_lanes
+
+    ck = node.child("central_kerb", required=False)
+    central = ck.length(non_negative=True) if ck else (
+        rules.central_kerb_width.value if rules.central_kerb_width and n_lanes > 1 else 0.0)
+    dv = node.child("divider", required=False)
+    divider = dv.length(non_negative=True) if dv else 0.3
+    carriageway = sum(widths) + (central if n_lanes > 1 else 0.0)
+    if rc <= carriageway:
+        raise rc_node.error(f"got {rc_node.data!r}; expected a centre-line radius larger than the "
+                            f"carriageway width ({carriageway:.2f} m)")
+
+    tps = node.child("turns_per_storey", required=False)
+    if tps is None:
+        turns = (0.5 if layout == "double" else 1.0,) * storeys
+    elif isinstance(tps.data, list):
+        turns = tuple(item.number(positive=True, what="a positive number of turns such as 1 or 0.75")
+                      for item in tps.items())
+        if len(turns) != storeys:
+            raise tps.error(f"got {len(turns)} values; expected one per storey ({storeys})")
+    else:
+        turns = (tps.number(positive=True, what="a positive number of turns such as 1 or 0.75"),) * storeys
+    for t in turns:
+        if t > 20:
+            raise tps.error(f"got {t:g} turns per storey; expected at most 20")  # type: ignore[union-attr]
+
+    hand_node = node.child("hand", required=False)
+    hand = -1 if hand_node and hand_node.text(("anticlockwise", "clockwise")) == "clockwise" else 1
+    sb = node.child("start_bearing", required=False)
+    start = sb.angle() if sb else 0.0
+
+    ll = node.child("landing_length", required=False)
+    landing = ll.length(non_negative=True) if ll else None
+    tr = node.child("transition", required=False)
+    t_len, t_kind = None, "segment"
+    if tr is not None:
+        if tr.data in ("none", False, 0):
+            t_len = 0.0
+        else:
+            tr.require_mapping()
+            t_len = tr.child("length").length(non_negative=True)
+            kind = tr.child("kind", required=False)
+            t_kind = kind.text(TRANSITION_KINDS) if kind else "segment"
+            tr.done()
+    cf = node.child("cross_fall", required=False)
+    cross = cf.gradient() if cf else None
+    cfd = node.child("cross_fall_direction", required=False)
+    inward = (cfd.text(("inward", "outward")) == "inward") if cfd else True
+    node.done()
+    return DesignSpec(layout=layout, centre_radius=rc, lane_widths=widths, turns_per_storey=turns,
+                      central_kerb=central if n_lanes > 1 else 0.0, divider=divider, hand=hand,
+                      start_bearing=start, landing_length=landing, transition_length=t_len,
+                      transition_kind=t_kind, cross_fall=cross, cross_fall_inward=inward)
+
+
+def _rules(node: Node | None, project_dir: Path) -> RuleSet:
+    if node is None:
+        return load_rule_set(DEFAULT_RULE_SET, project_dir, file="<default>", path="rules")
+    if isinstance(node.data, str):
+        return load_rule_set(node.text(), project_dir, file=node.file, path=node.path)
+    node.require_mapping()
+    use = node.child("use")
+    override = node.child("override", required=False)
+    node.done()
+    if override is not None:
+        override.require_mapping()
+    return load_rule_set(use.text(), project_dir, override.data if override else None,
+                         file=node.file, path=use.path)
+
+
+def load_project(path: str | Path) -> Project:
+    """Read and check a project file; see the README for its keys."""
+    path = Path(path)
+    shown = str(path)
+    root = Node(read_yaml(path, shown), shown).require_mapping()
+    project_dir = path.resolve().parent
+
+    meta = root.child("project")
+    meta.require_mapping()
+    name = meta.child("name").text()
+    notes_node = meta.child("notes", required=False)
+    notes = notes_node.text() if notes_node else ""
+    meta.done()
+
+    levels, imperial = _levels(root.child("levels"))
+    structure = _structure(root.child("structure"))
+    site = _site(root.child("site"))
+    traffic_node = root.child("traffic", required=False)
+    traffic = traffic_node.text(TRAFFIC) if traffic_node else "one-way"
+    rules = _rules(root.child("rules", required=False), project_dir)
+    vehicle_node = root.child("vehicle", required=False)
+    vehicle = load_vehicle(vehicle_node if vehicle_node is not None else
+                           Node(DEFAULT_VEHICLE, shown, "vehicle"), project_dir)
+    design = _design(root.child("design"), traffic, len(levels) - 1, rules)
+    units_node = root.child("units", required=False)
+    units = units_node.text(("metric", "imperial")) if units_node else ("imperial" if imperial else "metric")
+    root.done()
+    if structure.cover_soffit is not None and structure.cover_soffit <= levels[-1].level:
+        raise InputError(shown, "structure.cover_soffit",
+                         f"got {structure.cover_soffit:.3f} m; expected a soffit above the top level "
+                         f"({levels[-1].level:.3f} m)")
+    return Project(name=name, notes=notes, file=shown, units=units, levels=levels,
+                   structure=structure, site=site, traffic=traffic, vehicle=vehicle,
+                   rules=rules, design=design)

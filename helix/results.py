@@ -1,0 +1,178 @@
+"""Results as data: the JSON document and the terminal table of an evaluation.
+
+JSON is SI throughout (metres, degrees for plan angles, gradients in percent); the
+terminal table follows the project's units.
+"""
+from __future__ import annotations
+
+import json
+import math
+from typing import Any
+
+from .evaluate import Evaluation
+from .units import format_gradient, format_length
+
+__all__ = ["to_dict", "to_json", "check_table", "CAUTION"]
+
+CAUTION = ("helix is a design aid. Results must be verified by a qualified professional "
+           "against the codes and standards in force where the car park is built; local rules "
+           "govern. Vehicle data are typical, not a guarantee for any particular vehicle.")
+
+
+def _r(x: float | None, nd: int = 4) -> float | None:
+    if x is None or not math.isfinite(x):
+        return None
+    return round(float(x), nd)
+
+
+def _check_value(c, x):
+    if x is None:
+        return None
+    return _r(100 * x, 3) if c.quantity == "gradient" else _r(x, 4)
+
+
+def check_dict(c) -> dict[str, Any]:
+    return {
+        "id": c.id,
+        "title": c.title,
+        "value": _check_value(c, c.value),
+        "limit": _check_value(c, c.limit),
+        "margin": _check_value(c, c.margin),
+        "unit": "%" if c.quantity == "gradient" else ("m" if c.quantity == "length" else ""),
+        "sense": c.sense,
+        "ok": c.ok,
+        "status": c.status,
+        "where": c.where,
+        "note": c.note,
+        "source": c.source,
+    }
+
+
+def to_dict(ev: Evaluation) -> dict[str, Any]:
+    p, h = ev.project, ev.helix
+    first = h.threads[0]
+    lanes = [lane for t in h.threads for lane in t.lanes]
+
+    def grad_max(line: str) -> float | None:
+        return _r(100 * ev.max_gradient(line), 3)
+
+    storeys = []
+    for s in ev.storeys:
+        storeys.append({
+            "thread": s.thread, "from": s.from_level, "to": s.to_level,
+            "rise_m": _r(s.rise), "plan_angle_deg": _r(math.degrees(s.plan_angle), 3),
+            "turns": _r(s.turns, 4), "pitch_m": _r(s.pitch),
+            "gradient_pct": {
+                "inner": _r(100 * s.gradient["inner kerb"], 3),
+                "centre": _r(100 * s.gradient["centre line"], 3),
+                "outer": _r(100 * s.gradient["outer kerb"], 3),
+                **{k.replace(" ", "_"): _r(100 * v, 3) for k, v in s.gradient.items()
+                   if k not in ("inner kerb", "centre line", "outer kerb")},
+            },
+            "length_centre_m": _r(s.length_centre, 3),
+        })
+    threads = [{
+        "name": t.name, "traffic": t.traffic,
+        "inner_radius_m": _r(t.inner_radius), "centre_radius_m": _r(t.centre_radius),
+        "outer_radius_m": _r(t.outer_radius),
+        "start_bearing_deg": _r(math.degrees(t.start_bearing) % 360, 3),
+        "hand": "anticlockwise" if t.hand > 0 else "clockwise",
+        "cross_fall_pct": _r(100 * t.cross_fall, 3),
+        "lanes": [{"name": ln.name, "direction": ln.direction, "inner_radius_m": _r(ln.inner_radius),
+                   "outer_radius_m": _r(ln.outer_radius), "width_m": _r(ln.width)} for ln in t.lanes],
+    } for t in h.threads]
+    first_storeys = [s for s in ev.storeys if s.thread == first.name]
+    at = ev.headroom_at
+    return {
+        "project": p.name,
+        "file": p.file,
+        "ok": ev.ok,
+        "rules": {"name": p.rules.name, "title": p.rules.title},
+        "checks": [check_dict(c) for c in ev.checks],
+        "geometry": {
+            "layout": h.layout,
+            "traffic": h.traffic,
+            "threads": len(h.threads),
+            "centre_radius_m": _r(first.centre_radius),
+            "inner_radius_m": _r(h.inner_radius),
+            "outer_radius_m": _r(h.outer_radius),
+            "lane_width_m": _r(min(ln.width for ln in lanes)),
+            "carriageway_width_m": _r(first.width),
+            "overall_diameter_m": _r(h.overall_diameter),
+            "turns_per_storey": [_r(s.turns, 4) for s in first_storeys],
+            "pitch_m": [_r(s.pitch) for s in first_storeys],
+            "gradient_pct": {"inner": grad_max("inner kerb"), "centre": grad_max("centre line"),
+                             "outer": grad_max("outer kerb")},
+            "thread_details": threads,
+        },
+        "storeys": storeys,
+        "headroom_min_m": _r(ev.headroom.clear) if ev.headroom else None,
+        "headroom_min_at": None if at is None else {
+            "thread": at.thread, "level": at.level, "storey": at.storey,
+            "chainage_m": _r(at.chainage, 3), "radius_m": _r(at.radius), "bearing_deg": _r(at.bearing_deg, 2),
+            "under": ev.headroom.above if ev.headroom else None,
+        },
+        "vehicle": {"name": p.vehicle.name, "title": p.vehicle.title,
+                    **{f"{k}_m": _r(v) for k, v in p.vehicle.dimensions().items()}},
+        "units": p.units,
+        "caution": CAUTION,
+    }
+
+
+def to_json(data: dict) -> str:
+    return json.dumps(data, indent=2, sort_keys=False, allow_nan=False) + "\n"
+
+
+def _fmt(c, x, units: str) -> str:
+    if x is None:
+        return "-"
+    if c.quantity == "gradient":
+        return format_gradient(x, units)
+    if c.quantity == "length":
+        return format_length(x, units) if units == "imperial" else f"{x:.3f} m"
+    return f"{x:.3f}"
+
+
+def _table(rows: list[list[str]], header: list[str]) -> str:
+    widths = [max(len(r[i]) for r in [header] + rows) for i in range(len(header))]
+    line = lambda r: "  ".join(cell.ljust(w) for cell, w in zip(r, widths)).rstrip()
+    return "\n".join([line(header), line(["-" * w for w in widths])] + [line(r) for r in rows])
+
+
+def check_table(ev: Evaluation) -> str:
+    """The readable report for the terminal: geometry, storeys, checks, cautions."""
+    p, h, u = ev.project, ev.helix, ev.project.units
+    out = [f"{p.name}", f"rule set: {p.rules.title}", f"vehicle: {p.vehicle.title}", ""]
+    geo = []
+    for t in h.threads:
+        geo.append([t.name, t.traffic, format_length(t.inner_radius, u), format_length(t.centre_radius, u),
+                    format_length(t.outer_radius, u),
+                    ", ".join(format_length(ln.width, u) for ln in t.lanes)])
+    out.append(_table(geo, ["thread", "traffic", "inner kerb", "centre line", "outer kerb", "lane widths"]))
+    out.append(f"overall diameter with structure: {format_length(h.overall_diameter, u)}")
+    out.append("")
+    rows = []
+    for s in ev.storeys:
+        rows.append([s.thread, f"{s.from_level} -> {s.to_level}", format_length(s.rise, u),
+                     f"{s.turns:.3g}", format_gradient(s.gradient["inner kerb"], u),
+                     format_gradient(s.gradient["centre line"], u),
+                     format_gradient(s.gradient["outer kerb"], u), format_length(s.length_centre, u)])
+    out.append(_table(rows, ["thread", "storey", "rise", "turns", "grade inner", "grade centre",
+                             "grade outer", "drive (centre)"]))
+    out.append("")
+    rows = []
+    for c in ev.checks:
+        margin = c.margin
+        rows.append([c.status, c.id, _fmt(c, c.value, u),
+                     ("<= " if c.sense == "max" else ">= ") + _fmt(c, c.limit, u) if c.limit is not None else "-",
+                     _fmt(c, margin, u) if margin is not None else "-", c.where])
+    out.append(_table(rows, ["status", "check", "value", "limit", "margin", "where"]))
+    out.append("")
+    out.append("Sources of the limits:")
+    for c in ev.checks:
+        out.append(f"  {c.id}: {c.source}")
+    out.append("")
+    fails = [c.id for c in ev.checks if not c.ok]
+    out.append("RESULT: all checks pass" if not fails else f"RESULT: {len(fails)} check(s) fail: {', '.join(fails)}")
+    out.append("CAUTION: " + CAUTION)
+    return "\n".join(out) + "\n"

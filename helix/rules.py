@@ -1,0 +1,302 @@
+"""Rule sets: the limits a helix is checked against, each with its source.
+
+A rule set is a YAML file in ``configs/rules/`` (see DEVELOPERS.md for the keys).
+A project names one and may override any key inline.  Keys a rule book does not set
+are ``None`` here, and the check they would drive is reported as "no limit".
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from .errors import InputError, Node
+from .library_files import find_named, read_yaml
+
+__all__ = ["Limit", "GradientLimit", "TransitionRule", "RuleSet", "load_rule_set",
+           "REFERENCE_LINES"]
+
+#: Where a gradient limit is measured across the carriageway.
+REFERENCE_LINES = ("centre_line", "lane_centre", "inner_kerb", "inner_kerb_offset")
+
+
+@dataclass(frozen=True)
+class Limit:
+    """One limit of a rule book: its value in SI units and where it comes from."""
+
+    value: float
+    source: str
+    preferred: float | None = None
+
+
+@dataclass(frozen=True)
+class GradientLimit:
+    """A maximum gradient measured on one reference line.
+
+    ``by_rise`` holds ``(rise_up_to, max_gradient)`` pairs in increasing rise; the last
+    rise is ``inf``.  IStructE, for example, allows a steeper curved ramp for a storey
+    rise up to 3.0 m than above it.
+    """
+
+    measured_at: str
+    offset: float
+    by_rise: tuple[tuple[float, float], ...]
+    source: str
+
+    def max_for_rise(self, rise: float) -> float:
+        for up_to, g in self.by_rise:
+            if rise <= up_to + 1e-9:
+                return g
+        return self.by_rise[-1][1]
+
+    @property
+    def label(self) -> str:
+        if self.measured_at == "inner_kerb_offset":
+            return f"{self.offset:.2f} m from the inner kerb"
+        return self.measured_at.replace("_", " ")
+
+    @property
+    def check_id(self) -> str:
+        return f"gradient_{self.measured_at}"
+
+
+@dataclass(frozen=True)
+class TransitionRule:
+    """Reduced-grade transitions at half the grade change, where the change is large."""
+
+    length: float
+    when_grade_change_over: float
+    source: str
+
+
+@dataclass(frozen=True)
+class RuleSet:
+    name: str
+    title: str
+    notes: str = ""
+    gradient: tuple[GradientLimit, ...] = ()
+    lane_width_one_way: Limit | None = None
+    lane_width_two_way: Limit | None = None
+    central_kerb_width: Limit | None = None
+    inner_kerb_radius: Limit | None = None
+    outer_kerb_radius: Limit | None = None
+    clear_height: Limit | None = None
+    structure_clearance_outside: Limit | None = None
+    structure_clearance_inside: Limit | None = None
+    cross_fall_min: Limit | None = None
+    cross_fall_max: Limit | None = None
+    landing_length: Limit | None = None
+    transition: TransitionRule | None = None
+    design_speed: Limit | None = None
+    side_friction_max: Limit | None = None
+    vehicle_roof_clearance: Limit | None = None
+    files: tuple[str, ...] = field(default=(), compare=False)
+
+    def clearance_outside(self) -> float:
+        return self.structure_clearance_outside.value if self.structure_clearance_outside else 0.0
+
+    def clearance_inside(self) -> float:
+        return self.structure_clearance_inside.value if self.structure_clearance_inside else 0.0
+
+    def summary(self) -> list[tuple[str, str, str]]:
+        """(key, value text, source) rows for reports."""
+        rows = []
+        for g in self.gradient:
+            steps = ", ".join(
+                (f"{100 * v:.2f} % up to {r:.2f} m rise" if math.isfinite(r) else f"{100 * v:.2f} %")
+                for r, v in g.by_rise)
+            rows.append((f"gradient on {g.label}", steps, g.source))
+        for key in ("lane_width_one_way", "lane_width_two_way", "central_kerb_width",
+                    "inner_kerb_radius", "outer_kerb_radius", "clear_height",
+                    "structure_clearance_outside", "structure_clearance_inside",
+                    "cross_fall_min", "cross_fall_max", "landing_length", "design_speed",
+                    "side_friction_max", "vehicle_roof_clearance"):
+            lim = getattr(self, key)
+            if lim is not None:
+                rows.append((key, _value_text(key, lim.value), lim.source))
+        if self.transition is not None:
+            t = self.transition
+            rows.append(("transition", f"{t.length:.2f} m at half the change where it exceeds "
+                         f"{100 * t.when_grade_change_over:.1f} %", t.source))
+        return rows
+
+
+def _value_text(key: str, value: float) -> str:
+    if key.startswith("cross_fall"):
+        return f"{100 * value:.1f} %"
+    if key == "design_speed":
+        return f"{3.6 * value:.0f} km/h"
+    if key == "side_friction_max":
+        return f"{value:.2f}"
+    return f"{value:.3f} m"
+
+
+# ----------------------------------------------------------------------------------
+# Loading
+
+# key -> (field name, number key in the mapping, kind of quantity)
+_SIMPLE: dict[str, tuple[str, str, str]] = {
+    "lane_width_one_way": ("lane_width_one_way", "min", "length"),
+    "lane_width_two_way": ("lane_width_two_way", "min", "length"),
+    "central_kerb_width": ("central_kerb_width", "value", "length"),
+    "inner_kerb_radius": ("inner_kerb_radius", "min", "length"),
+    "outer_kerb_radius": ("outer_kerb_radius", "min", "length"),
+    "clear_height": ("clear_height", "min", "length"),
+    "structure_clearance_outside": ("structure_clearance_outside", "value", "length"),
+    "structure_clearance_inside": ("structure_clearance_inside", "value", "length"),
+    "landing": ("landing_length", "length", "length"),
+    "design_speed": ("design_speed", "value", "speed"),
+    "side_friction": ("side_friction_max", "max", "number"),
+    "vehicle_roof_clearance": ("vehicle_roof_clearance", "min", "length"),
+}
+_KEYS = ("name", "title", "notes", "extends", "gradient", "cross_fall", "transition", *_SIMPLE)
+
+
+def _source(node: Node, default: str | None) -> str:
+    src = node.child("source", required=default is None)
+    if src is None:
+        return default  # type: ignore[return-value]
+    return src.text()
+
+
+def _quantity(node: Node, kind: str) -> float:
+    if kind == "length":
+        return node.length(non_negative=True)
+    if kind == "speed":
+        return node.speed()
+    if kind == "gradient":
+        return node.gradient()
+    return node.number(non_negative=True, what="a number of zero or more such as 0.15")
+
+
+def _parse_simple(node: Node, number_key: str, kind: str, default_source: str | None) -> Limit:
+    node.require_mapping()
+    value = _quantity(node.child(number_key), kind)  # type: ignore[arg-type]
+    pref_node = node.child("preferred", required=False) if number_key == "min" else None
+    preferred = _quantity(pref_node, kind) if pref_node is not None else None
+    source = _source(node, default_source)
+    node.done()
+    return Limit(value, source, preferred)
+
+
+def _parse_gradient(node: Node, default_source: str | None) -> tuple[GradientLimit, ...]:
+    limits = []
+    for item in node.items():
+        item.require_mapping()
+        line = item.child("measured_at").text(REFERENCE_LINES)
+        offset = 0.0
+        if line == "inner_kerb_offset":
+            offset = item.child("offset").length(non_negative=True)
+        maxn = item.child("max")
+        if isinstance(maxn.data, list):
+            steps = []
+            entries = list(maxn.items())
+            if not entries:
+                raise maxn.error("got an empty list; expected gradients by storey rise")
+            for k, step in enumerate(entries):
+                step.require_mapping()
+                last = k == len(entries) - 1
+                up = step.child("rise_up_to", required=not last)
+                rise = up.length(positive=True) if up is not None else math.inf
+                if steps and rise <= steps[-1][0]:
+                    raise up.error("rises must increase from one step to the next")  # type: ignore[union-attr]
+                steps.append((rise, step.child("value").gradient()))
+                step.done()
+            by_rise = tuple(steps)
+        else:
+            by_rise = ((math.inf, maxn.gradient()),)
+        source = _source(item, default_source)
+        item.done()
+        limits.append(GradientLimit(line, offset, by_rise, source))
+    return tuple(limits)
+
+
+def _layers(name: str, project_dir: Path | None, file: str, path: str,
+            seen: tuple[str, ...] = ()) -> list[tuple[dict, str]]:
+    """The rule file and those it extends, base first, as (data, display file)."""
+    if name in seen:
+        raise InputError(file, path, f"rule set {name!r} extends itself through {' -> '.join(seen)}")
+    rule_file = find_named("rules", name, project_dir, file, path)
+    data = read_yaml(rule_file)
+    shown = str(rule_file)
+    root = Node(data, shown)
+    base = root.child("extends", required=False)
+    layers: list[tuple[dict, str]] = []
+    if base is not None:
+        layers = _layers(base.text(), project_dir, shown, "extends", seen + (name,))
+    return layers + [(data, shown)]
+
+
+def load_rule_set(name: str, project_dir: Path | None = None,
+                  overrides: dict | None = None, *, file: str = "<project>",
+                  path: str = "rules.use") -> RuleSet:
+    """Load rule set ``name`` (and what it extends), then apply ``overrides``.
+
+    ``file`` and ``path`` locate the reference for error messages.  Overrides without a
+    ``source`` are labelled as coming from the project file.
+    """
+    layers = _layers(name, project_dir, file, path)
+    if overrides:
+        layers.append((overrides, file))
+    # Later layers replace whole keys; remember which file each key came from.
+    merged: dict[str, tuple[Any, str, str]] = {}
+    for k, (data, shown) in enumerate(layers):
+        is_override = overrides is not None and k == len(layers) - 1
+        prefix = "rules.override." if is_override else ""
+        node = Node(data, shown, prefix.rstrip(".")).require_mapping()
+        node.done(extra_valid=tuple(k for k in _KEYS
+                                    if not (is_override and k in ("name", "extends"))))
+        for key in data:
+            merged[key] = (data[key], shown, prefix + key)
+
+    def entry(key: str) -> tuple[Node, str | None] | None:
+        if key not in merged or merged[key][0] is None:
+            return None
+        value, shown, kpath = merged[key]
+        default = "project file override" if kpath.startswith("rules.override.") else None
+        return Node(value, shown, kpath), default
+
+    fields: dict[str, Any] = {}
+    for key, (fname, number_key, kind) in _SIMPLE.items():
+        e = entry(key)
+        if e is not None:
+            fields[fname] = _parse_simple(e[0], number_key, kind, e[1])
+    e = entry("gradient")
+    if e is not None:
+        fields["gradient"] = _parse_gradient(e[0], e[1])
+    e = entry("cross_fall")
+    if e is not None:
+        node, default = e
+        node.require_mapping()
+        src = _source(node, default)
+        lo = node.child("min", required=False)
+        hi = node.child("max", required=False)
+        if lo is None and hi is None:
+            raise node.error("expected 'min' and/or 'max' gradients such as '3%'")
+        if lo is not None:
+            fields["cross_fall_min"] = Limit(lo.gradient(), src)
+        if hi is not None:
+            fields["cross_fall_max"] = Limit(hi.gradient(), src)
+        node.done()
+    e = entry("transition")
+    if e is not None:
+        node, default = e
+        node.require_mapping()
+        length = node.child("length").length(non_negative=True)
+        over_node = node.child("when_grade_change_over", required=False)
+        over = over_node.gradient() if over_node is not None else 0.0
+        fields["transition"] = TransitionRule(length, over, _source(node, default))
+        node.done()
+
+    base_data, base_file = layers[-1 if not overrides else -2]
+    top = Node(base_data, base_file)
+    title_node = top.child("title", required=False)
+    notes_node = top.child("notes", required=False)
+    return RuleSet(
+        name=name,
+        title=title_node.text() if title_node is not None else name,
+        notes=notes_node.text() if notes_node is not None else "",
+        files=tuple(s for _, s in layers),
+        **fields,
+    )
