@@ -108,25 +108,29 @@ class Profile:
 
 
 def storey_run_slope(rise: float, plan_angle: float, landing_below: float,
-                     landing_above: float, transition: float) -> float:
+                     landing_above: float, transition: float, landing_slope: float = 0.0) -> float:
     """Slope (m/rad) of the constant-grade run of one storey.
 
-    The storey spans ``plan_angle``; half of each landing lies in it, and a
-    transition at each end rises at half the run's slope (a half-grade segment and a
-    vertical curve of the same length both do), so::
+    The storey spans ``plan_angle``; half of each landing lies in it (rising at
+    ``landing_slope``), and a transition at each end rises at the mean of the landing's
+    and the run's slopes (a half-grade-change segment and a vertical curve of the same
+    length both do), so with ``F`` the plan angle between the landings::
 
-        rise = k * (plan_angle - landing_below/2 - landing_above/2 - transition)
+        rise - landing_slope * (landing_below + landing_above) / 2
+            = k * (F - transition) + landing_slope * transition
 
     Returns ``nan`` when landings and transitions leave no room for the run.
     """
-    free = plan_angle - 0.5 * landing_below - 0.5 * landing_above - transition
-    if free <= 1e-9 or plan_angle - 0.5 * (landing_below + landing_above) - 2 * transition < -1e-9:
+    free = plan_angle - 0.5 * (landing_below + landing_above)
+    if free - 2 * transition < -1e-9 or free - transition <= 1e-9:
         return math.nan
-    return rise / free
+    ramp_rise = rise - landing_slope * 0.5 * (landing_below + landing_above)
+    return (ramp_rise - landing_slope * transition) / (free - transition)
 
 
 def build_profile(levels, plan_angles, landing_angles, transition_angles,
-                  transition_kind: str = "segment", start: float = 0.0) -> Profile:
+                  transition_kind: str = "segment", start: float = 0.0,
+                  landing_slope: float = 0.0) -> Profile:
     """The alignment of a thread serving ``levels`` (ascending in travel order).
 
     Parameters
@@ -141,9 +145,13 @@ def build_profile(levels, plan_angles, landing_angles, transition_angles,
         Plan angle of the transition at each end of each storey's run (rad), one per
         storey; 0 for none.
     transition_kind : {"segment", "curve"}
-        Half-grade segment, or vertical curve with linearly changing grade.
+        Segment at the mean of the adjoining grades, or vertical curve with linearly
+        changing grade.
     start : float
         Plan angle of the first connection.
+    landing_slope : float
+        Slope of every landing (m/rad) along the ascent, e.g. a drainage fall; the
+        landing passes through its floor level at the connection.
 
     Every connection is met exactly: each storey's run slope is solved from its rise.
     """
@@ -151,7 +159,12 @@ def build_profile(levels, plan_angles, landing_angles, transition_angles,
     n = len(levels) - 1
     if n < 1 or len(plan_angles) != n or len(landing_angles) != n + 1 or len(transition_angles) != n:
         raise ValueError("build_profile: inconsistent lengths of levels and storey data")
-    t, z0, k, q, kind, storey = [], [], [], [], [], []
+    t: list[float] = []
+    z0: list[float] = []
+    k: list[float] = []
+    q: list[float] = []
+    kind: list[str] = []
+    storey: list[int] = []
 
     def add(theta0, zz, kk, qq, what, s):
         t.append(theta0)
@@ -161,41 +174,41 @@ def build_profile(levels, plan_angles, landing_angles, transition_angles,
         kind.append(what)
         storey.append(s)
 
+    kl = landing_slope
     connections = [start]
-    theta = start - 0.5 * landing_angles[0]
     if landing_angles[0] > 0:
-        add(theta, levels[0], 0.0, 0.0, "landing", -1)
+        add(start - 0.5 * landing_angles[0], levels[0] - 0.5 * kl * landing_angles[0], kl, 0.0,
+            "landing", -1)
     for s in range(n):
         c0 = connections[-1]
         c1 = c0 + plan_angles[s]
         rise = levels[s + 1] - levels[s]
         tau = transition_angles[s]
-        slope = storey_run_slope(rise, plan_angles[s], landing_angles[s], landing_angles[s + 1], tau)
+        slope = storey_run_slope(rise, plan_angles[s], landing_angles[s], landing_angles[s + 1], tau, kl)
         if not math.isfinite(slope):
             raise ValueError(f"storey {s + 1}: landings and transitions leave no room for the run")
         a = c0 + 0.5 * landing_angles[s]          # start of the ramp
         b = c1 - 0.5 * landing_angles[s + 1]      # end of the ramp
         if landing_angles[s] > 0 and s > 0:
-            add(c0, levels[s], 0.0, 0.0, "landing", -1)   # upper half of landing s
-        z = levels[s]
+            add(c0, levels[s], kl, 0.0, "landing", -1)   # upper half of landing s
+        z = levels[s] + 0.5 * kl * landing_angles[s]
         if tau > 0:
             if transition_kind == "curve":
-                add(a, z, 0.0, slope / tau, "transition", s)
+                add(a, z, kl, (slope - kl) / tau, "transition", s)
             else:
-                add(a, z, 0.5 * slope, 0.0, "transition", s)
-            z += 0.5 * slope * tau
+                add(a, z, 0.5 * (kl + slope), 0.0, "transition", s)
+            z += 0.5 * (kl + slope) * tau
         add(a + tau, z, slope, 0.0, "run", s)
-        z += slope * (b - tau - (a + tau))
+        z += slope * (b - a - 2 * tau)
         if tau > 0:
             if transition_kind == "curve":
-                add(b - tau, z, slope, -slope / tau, "transition", s)
+                add(b - tau, z, slope, (kl - slope) / tau, "transition", s)
             else:
-                add(b - tau, z, 0.5 * slope, 0.0, "transition", s)
+                add(b - tau, z, 0.5 * (kl + slope), 0.0, "transition", s)
         if landing_angles[s + 1] > 0:
-            add(b, levels[s + 1], 0.0, 0.0, "landing", -1)   # lower half of landing s+1
+            add(b, levels[s + 1] - 0.5 * kl * landing_angles[s + 1], kl, 0.0, "landing", -1)
         connections.append(c1)
-    end = connections[-1] + 0.5 * landing_angles[-1]
-    t.append(end)
+    t.append(connections[-1] + 0.5 * landing_angles[-1])
     prof = Profile(t=np.array(t), z0=np.array(z0), k=np.array(k), q=np.array(q),
                    kind=tuple(kind), storey=tuple(storey),
                    connections=np.array(connections), connection_levels=levels.copy())

@@ -133,7 +133,8 @@ def minimum_headroom(helix: Helix, structure: Structure) -> HeadroomPoint | None
             clear, gap, names = headroom(helix, structure, i, angles, r)
             if not np.any(np.isfinite(clear)):
                 continue
-            k = int(np.argmin(clear))
-            if best is None or clear[k] < best.clear - 1e-12:
+            # Ties (a plateau of equal headroom) resolve to the lowest point reached first.
+            k = int(np.flatnonzero(clear <= np.min(clear) + 1e-6)[0])
+            if best is None or clear[k] < best.clear - 1e-6:
                 best = HeadroomPoint(float(clear[k]), float(gap[k]), i, float(angles[k]), r, names[k])
     return best

@@ -32,8 +32,11 @@ def _parser() -> argparse.ArgumentParser:
                            formatter_class=argparse.RawDescriptionHelpFormatter)
     check.add_argument("project", help="project file (YAML)")
     check.add_argument("-o", "--output", metavar="DIR",
-                       help="also write the figures (PNG and SVG) and result.json to DIR")
+                       help="also write the figures (PNG and SVG), setting_out.csv and result.json to DIR")
     check.add_argument("--json", action="store_true", help="print the result as JSON instead of a table")
+    check.add_argument("--stations", metavar="LENGTH", default=None,
+                       help="spacing of the setting-out stations written with -o (default 5 m, "
+                            "or 10 ft for a project in feet)")
     return parser
 
 
@@ -65,6 +68,19 @@ def write_outputs(directory: Path, files: dict[str, bytes]) -> list[Path]:
     return written
 
 
+def _station_spacing(text: str | None, units: str) -> float:
+    from .units import UnitError, parse_length
+    if text is None:
+        return 3.048 if units == "imperial" else 5.0
+    try:
+        value = parse_length(text)
+    except UnitError as exc:
+        raise InputError("command line", "--stations", str(exc)) from None
+    if not value > 0:
+        raise InputError("command line", "--stations", f"got {text!r}; expected a positive length such as '5 m'")
+    return value
+
+
 def _check(args) -> int:
     from .evaluate import evaluate
     from .project import load_project
@@ -80,7 +96,10 @@ def _check(args) -> int:
     text = to_json(data)
     if args.output:
         from .figures import render_all
+        from .setting_out import setting_out_csv
+        spacing = _station_spacing(args.stations, project.units)
         files = render_all(result)  # everything in memory first: a failure writes nothing
+        files["setting_out.csv"] = setting_out_csv(result, spacing).encode()
         files["result.json"] = text.encode()
         write_outputs(Path(args.output), files)
     if args.json:

@@ -17,7 +17,8 @@ from .geometry import Helix, Thread
 from .layout import build_helix
 from .project import Project
 
-__all__ = ["StoreyResult", "Location", "Evaluation", "evaluate", "locate"]
+__all__ = ["StoreyResult", "SegmentResult", "Location", "Evaluation", "evaluate", "locate",
+           "wheel_paths", "gradient_lines"]
 
 
 @dataclass(frozen=True)
@@ -33,6 +34,18 @@ class StoreyResult:
     pitch: float  # nominal rise per turn, H / t
     gradient: dict  # line name -> steepest gradient in the storey (ratio)
     length_centre: float  # 3-D drive length on the centre line, connection to connection
+
+
+@dataclass(frozen=True)
+class SegmentResult:
+    """One landing, transition or run of one thread, with its steepest grades."""
+
+    thread: str
+    kind: str
+    storey: str  # "Deck 1 to Deck 2" or "Deck 1 landing"
+    chainage_start: float
+    chainage_end: float
+    gradient: dict  # line name -> steepest gradient on the segment (ratio, signed)
 
 
 @dataclass(frozen=True)
@@ -53,6 +66,7 @@ class Evaluation:
     storeys: tuple[StoreyResult, ...]
     headroom: HeadroomPoint | None
     headroom_at: Location | None
+    segments: tuple[SegmentResult, ...] = ()
 
     @property
     def ok(self) -> bool:
@@ -81,6 +95,48 @@ def locate(project: Project, thread: Thread, theta: float, radius: float) -> Loc
         storey, level = f"{names[c]} landing", names[c]
     bearing = math.degrees(float(thread.bearing(theta))) % 360.0
     return Location(thread.name, storey, level, float(thread.chainage(theta)), radius, bearing)
+
+
+def wheel_paths(project: Project, thread: Thread) -> dict[str, float]:
+    """Radii of the design vehicle's wheel paths, centred in each lane."""
+    v = project.vehicle
+    track = v.track if v.track is not None else v.width
+    paths = {}
+    for lane in thread.lanes:
+        prefix = "" if len(thread.lanes) == 1 else f"{lane.name} "
+        paths[f"{prefix}inner wheels"] = lane.centre_radius - 0.5 * track
+        paths[f"{prefix}outer wheels"] = lane.centre_radius + 0.5 * track
+    return paths
+
+
+def gradient_lines(project: Project, thread: Thread) -> dict[str, float]:
+    """Every line across the carriageway whose grade is reported: kerbs, centre line,
+    lane centres, wheel paths and the rule set's reference lines."""
+    lines = dict(thread.driving_lines())
+    lines.update(wheel_paths(project, thread))
+    for limit in project.rules.gradient:
+        for name, r in ck.reference_radii(thread, limit):
+            lines.setdefault(f"reference: {name}", r)
+    return lines
+
+
+def _segments(project: Project, helix: Helix) -> list[SegmentResult]:
+    out = []
+    for t in helix.threads:
+        p = t.profile
+        names = [project.levels[i].name for i in t.levels]
+        lines = gradient_lines(project, t)
+        for j, (kind, s, a, b) in enumerate(p.segments()):
+            lo, hi = p.slope_range(j)
+            steep = hi if abs(hi) >= abs(lo) else lo
+            if s >= 0:
+                label = f"{names[s]} to {names[s + 1]}"
+            else:
+                c = int(np.argmin(np.abs(p.connections - 0.5 * (a + b))))
+                label = f"{names[c]} landing"
+            out.append(SegmentResult(t.name, kind, label, float(t.chainage(a)), float(t.chainage(b)),
+                                     {name: steep / r for name, r in lines.items()}))
+    return out
 
 
 def _storeys(project: Project, helix: Helix) -> list[StoreyResult]:
@@ -117,4 +173,5 @@ def evaluate(project: Project, helix: Helix | None = None) -> Evaluation:
     results.append(ck.cross_fall_check(project, helix))
     results.append(ck.footprint_check(project, helix))
     return Evaluation(project=project, helix=helix, checks=tuple(results),
-                      storeys=tuple(_storeys(project, helix)), headroom=head, headroom_at=at)
+                      storeys=tuple(_storeys(project, helix)), headroom=head, headroom_at=at,
+                      segments=tuple(_segments(project, helix)))

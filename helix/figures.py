@@ -1,4 +1,4 @@
-"""Figures for a design report: the plan and the unrolled section.
+"""Figures for a design report: plan, unrolled section and radial cross-section.
 
 Every figure is drawn for A4 landscape at print size, in the project's units, with a
 colour-blind-safe palette (Okabe and Ito, "Color Universal Design", 2008) that also
@@ -21,7 +21,7 @@ from .clearance import headroom  # noqa: E402
 from .evaluate import Evaluation  # noqa: E402
 from .units import FOOT, format_length, format_level  # noqa: E402
 
-__all__ = ["plan_figure", "section_figure", "render_all", "STYLE", "PALETTE"]
+__all__ = ["plan_figure", "section_figure", "cross_section_figure", "render_all", "STYLE", "PALETTE"]
 
 # Okabe-Ito colours, each with a role that stays the same in every figure.
 PALETTE = {
@@ -266,22 +266,134 @@ def section_figure(ev: Evaluation):
                             arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["critical"], lw=1.2,
                                             shrinkA=0, shrinkB=0))
                 ax.annotate(f"min. clear headroom\n{format_length(c_min, p.units)} (centre line)",
-                            (x, float(s(z0 + 0.5 * c_min))), (8, 0), textcoords="offset points",
-                            fontsize=8, color=PALETTE["critical"], va="center",
+                            (x, float(s(z0 + c_min))), (6, 4), textcoords="offset points",
+                            fontsize=8, color=PALETTE["critical"], va="bottom", zorder=9,
                             bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=PALETTE["critical"], lw=0.6))
             ax.set_title(f"{t.name}: r = {format_length(t.centre_radius, p.units)}, "
                          f"traffic {t.traffic}", loc="left")
-            ax.set_xlabel(f"chainage along the centre line ({s.name})")
+            ax.set_xlabel(f"chainage along the centre line, in the direction of ascent ({s.name})")
             ax.set_ylabel(f"level ({s.name})")
             ax.grid(True, lw=0.3, color="#DDDDDD")
             ax.set_xlim(s(t.chainage(prof.start)), s(t.chainage(prof.end)))
             top = max(lv.level for lv in p.levels) + p.storey_heights[-1] * 0.6
             ax.set_ylim(s(p.levels[0].level - 0.6), s(top))
             if i == 0:
-                ax.legend(loc="upper left", ncol=3)
+                from matplotlib.patches import Patch
+                handles, _ = ax.get_legend_handles_labels()
+                handles += [Patch(fc="#EEEEEE", label="landing"), Patch(fc="#F6E8C3", label="transition")]
+                ax.legend(handles=handles, loc="upper left", ncol=5)
         fig.text(0.08, 0.02, "Vertical scale exaggerated. Shaded bands: landings (grey) and "
                  "transitions (sand). Headroom is measured at every plan position against the "
                  "surface overhead, less slab and hanging depth.", fontsize=7.5, color="#444444")
+    return fig
+
+
+def cross_section_figure(ev: Evaluation, bearing: float | None = None):
+    """Radial section through the axis: every turn of every thread on both sides,
+    kerbs, cross-fall, slab and hanging structure, and the clear height dimensioned.
+
+    ``bearing`` (rad) is the plan direction of the right-hand half; by default the
+    bearing of the smallest clear headroom.
+    """
+    p, h = ev.project, ev.helix
+    s = _Scale(p.units)
+    st = p.structure
+    if bearing is None:
+        if ev.headroom is not None:
+            t_min = h.threads[ev.headroom.thread]
+            bearing = float(t_min.bearing(ev.headroom.theta))
+        else:
+            bearing = h.threads[0].start_bearing
+    kerb_h = 0.15
+    with plt.rc_context(STYLE):
+        fig, ax = plt.subplots(figsize=A4_LANDSCAPE)
+        fig.subplots_adjust(left=0.07, right=0.80, top=0.88, bottom=0.09)
+        _title(fig, ev, f"radial cross-section at bearing {math.degrees(bearing) % 360:.0f} deg "
+                        f"(right) and {math.degrees(bearing + math.pi) % 360:.0f} deg (left)")
+        R = h.structure_radius
+        zmin = p.levels[0].level - 1.0
+        zmax = p.levels[-1].level + 1.5 + (st.cover_soffit - p.levels[-1].level if st.cover_soffit else 0)
+        for side in (1, -1):
+            b = bearing if side > 0 else bearing + math.pi
+            # Outer wall and central core.
+            wall = p.structure.wall_thickness
+            if wall > 0:
+                ax.add_patch(Rectangle((s(side * (R - wall) if side > 0 else -s(R)), s(zmin)), s(wall),
+                                       s(zmax - zmin), fc="#BDBDBD", ec=PALETTE["structure"], lw=0.6,
+                                       hatch="xx", zorder=1))
+            for i, t in enumerate(h.threads):
+                col = THREAD_COLOURS[i % len(THREAD_COLOURS)]
+                # Every unrolled angle of this thread that lies at plan bearing b.
+                base = t.hand * (b - t.start_bearing)
+                k0 = math.floor((t.profile.start - base) / (2 * math.pi))
+                k1 = math.ceil((t.profile.end - base) / (2 * math.pi))
+                for k in range(k0, k1 + 1):
+                    th = base + 2 * math.pi * k
+                    if not (t.profile.start - 1e-9 <= th <= t.profile.end + 1e-9):
+                        continue
+                    r = np.linspace(t.inner_radius, t.outer_radius, 20)
+                    z = t.level(th, r)
+                    x = side * r
+                    ax.fill(np.concatenate([s(x), s(x[::-1])]),
+                            np.concatenate([s(z), s(z[::-1] - st.slab_depth)]),
+                            fc=col, alpha=0.35, ec=col, lw=0.8, zorder=3)
+                    if st.hanging_depth > 0:
+                        ax.fill(np.concatenate([s(x), s(x[::-1])]),
+                                np.concatenate([s(z - st.slab_depth), s(z[::-1] - st.depth)]),
+                                fc="none", ec=PALETTE["soffit"], lw=0.6, hatch="....", zorder=3)
+                    ax.plot(s(x), s(z), color=col, lw=1.6, zorder=4)
+                    for rk in (t.inner_radius, t.outer_radius):  # kerbs, schematic upstands
+                        zk = float(t.level(th, rk))
+                        ax.plot([s(side * rk)] * 2, [s(zk), s(zk + kerb_h)], color="black", lw=2.0, zorder=5)
+                    zc = float(t.level(th))
+                    ax.text(s(side * t.centre_radius), s(zc + 0.08), f"{zc:+.3f}" if p.units != "imperial"
+                            else format_level(zc, p.units), ha="center", va="bottom", fontsize=7, zorder=6)
+            if h.core_radius > 0:
+                ax.add_patch(Rectangle((s(-h.core_radius) if side < 0 else 0, s(zmin)), s(h.core_radius),
+                                       s(zmax - zmin), fc="#F0F0F0", ec=PALETTE["structure"], lw=0.6,
+                                       zorder=1))
+        if st.cover_soffit is not None:
+            ax.add_patch(Rectangle((-s(R), s(st.cover_soffit)), s(2 * R), s(st.slab_depth), fc="#BDBDBD",
+                                   ec=PALETTE["structure"], zorder=2))
+        # Clear height at the governing point, if it lies in this section.
+        if ev.headroom is not None:
+            hp = ev.headroom
+            t = h.threads[hp.thread]
+            b_min = float(t.bearing(hp.theta))
+            side = 1 if abs((b_min - bearing + math.pi) % (2 * math.pi) - math.pi) < 1e-6 else -1
+            z0 = float(t.level(hp.theta, hp.radius))
+            x = s(side * hp.radius)
+            ax.annotate("", (x, s(z0 + hp.clear)), (x, s(z0)),
+                        arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["critical"], lw=1.4,
+                                        shrinkA=0, shrinkB=0), zorder=7)
+            ax.annotate(f"clear {format_length(hp.clear, p.units)}\n(gap {format_length(hp.gap, p.units)}"
+                        f" less {format_length(st.depth, p.units)} structure)",
+                        (x, s(z0 + 0.5 * hp.clear)), (-10 * side, 0), textcoords="offset points",
+                        ha="right" if side > 0 else "left", va="center", fontsize=8, color=PALETTE["critical"],
+                        bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=PALETTE["critical"], lw=0.6), zorder=8)
+        ax.axvline(0, color="black", lw=0.6, ls=(0, (10, 3, 2, 3)))
+        ax.set_xlim(-s(R * 1.05), s(R * 1.05))
+        ax.set_ylim(s(zmin), s(zmax))
+        ax.set_aspect("equal")
+        ax.set_xlabel(f"distance from the helix axis ({s.name})")
+        ax.set_ylabel(f"level ({s.name})")
+        ax.grid(True, lw=0.3, color="#DDDDDD")
+        from matplotlib.lines import Line2D
+        from matplotlib.patches import Patch
+        handles = [Patch(fc=THREAD_COLOURS[i % 4], alpha=0.35, ec=THREAD_COLOURS[i % 4], label=f"{t.name} slab")
+                   for i, t in enumerate(h.threads)]
+        handles += [Patch(fc="none", ec=PALETTE["soffit"], hatch="....", label="hanging structure"),
+                    Line2D([], [], color="black", lw=2, label="kerb (schematic)"),
+                    Patch(fc="#F0F0F0", ec=PALETTE["structure"], label="central core or void"),
+                    Patch(fc="#BDBDBD", ec=PALETTE["structure"], hatch="xx", label="outer wall")]
+        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0)
+        cf = h.threads[0].cross_fall
+        lines = [f"Cross-fall {100 * abs(cf):.1f} % "
+                 f"{'falling to the centre' if cf > 0 else 'falling outward' if cf < 0 else '(none)'}",
+                 f"Slab {format_length(st.slab_depth, p.units)}, hanging "
+                 f"{format_length(st.hanging_depth, p.units)}",
+                 "Levels at the centre line of each turn", "No vertical exaggeration"]
+        fig.text(0.815, 0.62, "\n".join(lines), fontsize=8, va="top")
     return fig
 
 
@@ -295,7 +407,8 @@ def _save(fig, fmt: str) -> bytes:
 def render_all(ev: Evaluation) -> dict[str, bytes]:
     """Every figure as PNG (300 dpi) and SVG, keyed by file name."""
     out: dict[str, bytes] = {}
-    for name, make in (("plan", plan_figure), ("section", section_figure)):
+    for name, make in (("plan", plan_figure), ("section", section_figure),
+                       ("cross_section", cross_section_figure)):
         fig = make(ev)
         try:
             with plt.rc_context(STYLE):

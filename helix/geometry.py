@@ -114,7 +114,7 @@ class Thread:
     def level(self, theta, radius=None):
         """Surface level at plan angle ``theta`` and ``radius`` (default: centre line)."""
         z = self.profile.level(theta)
-        if radius is None or self.cross_fall == 0.0:
+        if radius is None:
             return z
         return z + self.cross_fall * (np.asarray(radius, float) - self.centre_radius)
 

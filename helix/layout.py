@@ -33,8 +33,9 @@ def cross_fall(project: Project, spec: DesignSpec) -> float:
     return value if spec.cross_fall_inward else -value
 
 
-def transition_length(project: Project, spec: DesignSpec, run_gradient: float) -> float:
-    """Transition length at each end of a run of ``run_gradient`` (centre line).
+def transition_length(project: Project, spec: DesignSpec, grade_change: float) -> float:
+    """Transition length at each end of a run whose grade differs from the landing's by
+    ``grade_change`` (centre line).
 
     A length fixed in the design applies to every run; otherwise the rule set's
     transition applies where the change of grade from the landing exceeds its
@@ -43,7 +44,7 @@ def transition_length(project: Project, spec: DesignSpec, run_gradient: float) -
     if spec.transition_length is not None:
         return spec.transition_length
     rule = project.rules.transition
-    if rule is None or abs(run_gradient) < rule.when_grade_change_over:
+    if rule is None or grade_change < rule.when_grade_change_over:
         return 0.0
     return rule.length
 
@@ -61,21 +62,23 @@ def _lanes(inner: float, widths: tuple[float, ...], central: float, hand: int,
 
 
 def _thread(project: Project, spec: DesignSpec, name: str, centre_radius: float,
-            start_bearing: float, traffic: str, keep_right: bool = True) -> Thread:
+            start_bearing: float, traffic: str) -> Thread:
     width = spec.carriageway_width
     inner = centre_radius - 0.5 * width
     levels = [lv.level for lv in project.levels]
     plan = [TWO_PI * t for t in spec.turns_per_storey]
     land = landing_length(project, spec) / centre_radius
     landings = [land] * len(levels)
+    landing_slope = spec.landing_fall * centre_radius
     transitions = []
     for s, rise in enumerate(project.storey_heights):
         # First the run grade with no transition, to decide whether one is needed.
-        k0 = storey_run_slope(rise, plan[s], landings[s], landings[s + 1], 0.0)
-        g0 = k0 / centre_radius if math.isfinite(k0) else math.inf
-        transitions.append(transition_length(project, spec, g0) / centre_radius)
-    profile = build_profile(levels, plan, landings, transitions, spec.transition_kind, start=0.0)
-    lanes = _lanes(inner, spec.lane_widths, spec.central_kerb, spec.hand, keep_right, traffic)
+        k0 = storey_run_slope(rise, plan[s], landings[s], landings[s + 1], 0.0, landing_slope)
+        change = abs(k0 / centre_radius - spec.landing_fall) if math.isfinite(k0) else math.inf
+        transitions.append(transition_length(project, spec, change) / centre_radius)
+    profile = build_profile(levels, plan, landings, transitions, spec.transition_kind, start=0.0,
+                            landing_slope=landing_slope)
+    lanes = _lanes(inner, spec.lane_widths, spec.central_kerb, spec.hand, spec.keep_right, traffic)
     return Thread(name=name, inner_radius=inner, outer_radius=inner + width, lanes=lanes,
                   profile=profile, levels=tuple(range(len(levels))), start_bearing=start_bearing,
                   hand=spec.hand, cross_fall=cross_fall(project, spec),

@@ -28,12 +28,14 @@ DEFAULT_VEHICLE = "aashto-p"
 TRAFFIC = ("one-way", "two-way")
 LAYOUT_CHOICES = ("single", "double", "concentric")
 TRANSITION_KINDS = ("segment", "curve")
+CONNECTION_CHOICES = ("free", "same_side", "alternate")
 
 
 @dataclass(frozen=True)
 class Level:
     name: str
     level: float  # finished floor level at the helix connection, m
+    bearing: float | None = None  # pinned plan bearing of the connection, rad
 
 
 @dataclass(frozen=True)
@@ -79,6 +81,9 @@ class DesignSpec:
     transition_kind: str
     cross_fall: float | None
     cross_fall_inward: bool
+    landing_fall: float = 0.0  # grade of the landings along the ascent (drainage)
+    connections: str = "free"  # "free", "same_side" or "alternate"
+    keep_right: bool = True  # two-way traffic keeps right
 
     @property
     def carriageway_width(self) -> float:
@@ -148,8 +153,9 @@ def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
                                "expected levels in ascending order")
         else:
             raise item.error("missing key 'level' or 'height'; expected a floor level or a storey height")
+        bn = item.child("bearing", required=False)
         item.done()
-        levels.append(Level(name, z))
+        levels.append(Level(name, z, bn.angle() if bn is not None else None))
     return tuple(levels), imperial
 
 
@@ -250,11 +256,49 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpe
     cross = cf.gradient() if cf else None
     cfd = node.child("cross_fall_direction", required=False)
     inward = (cfd.text(("inward", "outward")) == "inward") if cfd else True
+    lf = node.child("landing_fall", required=False)
+    landing_fall = lf.gradient(non_negative=False) if lf else 0.0
+    keep = node.child("keep", required=False)
+    keep_right = keep.text(("right", "left")) == "right" if keep else True
+    cn = node.child("connections", required=False)
+    connections = cn.text(CONNECTION_CHOICES) if cn else "free"
+    for k, t in enumerate(turns):
+        frac = t % 1.0
+        bad = (connections == "same_side" and min(frac, 1 - frac) > 1e-6) or \
+              (connections == "alternate" and abs(frac - 0.5) > 1e-6)
+        if bad:
+            where = tps if tps is not None else cn
+            raise where.error(  # type: ignore[union-attr]
+                f"got {t:g} turns for storey {k + 1}; connections '{connections}' expected "
+                f"{'a whole number of turns' if connections == 'same_side' else 'a whole number and a half'}")
     node.done()
     return DesignSpec(layout=layout, centre_radius=rc, lane_widths=widths, turns_per_storey=turns,
                       central_kerb=central if n_lanes > 1 else 0.0, divider=divider, hand=hand,
                       start_bearing=start, landing_length=landing, transition_length=t_len,
-                      transition_kind=t_kind, cross_fall=cross, cross_fall_inward=inward)
+                      transition_kind=t_kind, cross_fall=cross, cross_fall_inward=inward,
+                      landing_fall=landing_fall, connections=connections, keep_right=keep_right)
+
+
+def _pin_bearings(levels_node: Node, levels: tuple[Level, ...], design: DesignSpec) -> DesignSpec:
+    """Check pinned connection bearings against the turns; the first pin may set the start."""
+    import dataclasses
+    pins = [(i, lv.bearing) for i, lv in enumerate(levels) if lv.bearing is not None]
+    if not pins:
+        return design
+    if pins[0][0] == 0:
+        design = dataclasses.replace(design, start_bearing=pins[0][1])
+    bearing = design.start_bearing
+    for i, lv in enumerate(levels):
+        if i > 0:
+            bearing += design.hand * 2 * math.pi * design.turns_per_storey[i - 1]
+        if lv.bearing is not None:
+            diff = (lv.bearing - bearing + math.pi) % (2 * math.pi) - math.pi
+            if abs(diff) > math.radians(0.5):
+                raise InputError(levels_node.file, f"levels[{i}].bearing",
+                                 f"got {math.degrees(lv.bearing) % 360:.1f} deg but the turns per storey "
+                                 f"put the connection at {math.degrees(bearing) % 360:.1f} deg; expected "
+                                 "turns_per_storey consistent with the pinned bearings")
+    return design
 
 
 def _rules(node: Node | None, project_dir: Path) -> RuleSet:
@@ -296,6 +340,7 @@ def load_project(path: str | Path) -> Project:
     vehicle = load_vehicle(vehicle_node if vehicle_node is not None else
                            Node(DEFAULT_VEHICLE, shown, "vehicle"), project_dir)
     design = _design(root.child("design"), traffic, len(levels) - 1, rules)
+    design = _pin_bearings(root.child("levels"), levels, design)
     units_node = root.child("units", required=False)
     units = units_node.text(("metric", "imperial")) if units_node else ("imperial" if imperial else "metric")
     root.done()

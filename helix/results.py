@@ -82,6 +82,14 @@ def to_dict(ev: Evaluation) -> dict[str, Any]:
                    "outer_radius_m": _r(ln.outer_radius), "width_m": _r(ln.width)} for ln in t.lanes],
     } for t in h.threads]
     first_storeys = [s for s in ev.storeys if s.thread == first.name]
+    segments = [{
+        "thread": g.thread, "kind": g.kind, "storey": g.storey,
+        "chainage_start_m": _r(g.chainage_start, 3), "chainage_end_m": _r(g.chainage_end, 3),
+        "gradient_pct": {k.replace(" ", "_").replace(":", ""): _r(100 * v, 3) for k, v in g.gradient.items()},
+    } for g in ev.segments]
+    # The steepest segment; on a tie a run is named before the transition that reaches its grade.
+    steepest = max(ev.segments, key=lambda g: (round(g.gradient["inner kerb"], 9), g.kind == "run"),
+                   default=None)
     at = ev.headroom_at
     return {
         "project": p.name,
@@ -106,6 +114,11 @@ def to_dict(ev: Evaluation) -> dict[str, Any]:
             "thread_details": threads,
         },
         "storeys": storeys,
+        "segments": segments,
+        "steepest": None if steepest is None else {
+            "thread": steepest.thread, "storey": steepest.storey, "kind": steepest.kind,
+            "chainage_start_m": _r(steepest.chainage_start, 3),
+            "gradient_inner_pct": _r(100 * steepest.gradient["inner kerb"], 3)},
         "headroom_min_m": _r(ev.headroom.clear) if ev.headroom else None,
         "headroom_min_at": None if at is None else {
             "thread": at.thread, "level": at.level, "storey": at.storey,

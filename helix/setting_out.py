@@ -1,0 +1,62 @@
+"""Setting-out table: stations along each thread for the drawing office.
+
+Stations are at a fixed spacing of chainage along each thread's centre line, plus
+every breakpoint of the alignment (where landings, transitions and runs meet), so the
+table can be drawn through without losing a change of grade.
+"""
+from __future__ import annotations
+
+import csv
+import io
+import math
+
+import numpy as np
+
+from .evaluate import Evaluation
+
+__all__ = ["stations", "setting_out_csv", "COLUMNS"]
+
+COLUMNS = ("thread", "station", "chainage_m", "plan_angle_deg", "bearing_deg", "x_m", "y_m",
+           "level_inner_kerb_m", "level_centre_m", "level_outer_kerb_m", "grade_centre_pct",
+           "cross_fall_pct", "segment", "breakpoint")
+
+
+def stations(ev: Evaluation, spacing: float) -> list[dict]:
+    """Rows of the setting-out table, SI units; ``spacing`` is metres of chainage."""
+    if not (spacing > 0 and math.isfinite(spacing)):
+        raise ValueError("station spacing must be a positive length")
+    rows = []
+    for t in ev.helix.threads:
+        p = t.profile
+        length = t.chainage(p.end)
+        regular = p.start + np.arange(0.0, length + 1e-9, spacing) / t.centre_radius
+        theta = np.unique(np.round(np.concatenate([regular, p.t]), 12))
+        is_break = np.isin(np.round(theta, 12), np.round(p.t, 12))
+        x, y = t.xy(theta, t.centre_radius, ev.helix.centre)
+        z_in = t.level(theta, t.inner_radius)
+        z_c = t.level(theta, t.centre_radius)
+        z_out = t.level(theta, t.outer_radius)
+        grade = t.gradient(theta, t.centre_radius)
+        seg = np.clip(np.searchsorted(p.t, theta, side="right") - 1, 0, len(p.k) - 1)
+        for n in range(len(theta)):
+            rows.append({
+                "thread": t.name, "station": n,
+                "chainage_m": round(float(t.chainage(theta[n])), 3),
+                "plan_angle_deg": round(math.degrees(theta[n]), 3),
+                "bearing_deg": round(math.degrees(float(t.bearing(theta[n]))) % 360.0, 3),
+                "x_m": round(float(x[n]), 3), "y_m": round(float(y[n]), 3),
+                "level_inner_kerb_m": round(float(z_in[n]), 4), "level_centre_m": round(float(z_c[n]), 4),
+                "level_outer_kerb_m": round(float(z_out[n]), 4),
+                "grade_centre_pct": round(100 * float(grade[n]), 3),
+                "cross_fall_pct": round(100 * t.cross_fall, 3),
+                "segment": p.kind[seg[n]], "breakpoint": "yes" if is_break[n] else "",
+            })
+    return rows
+
+
+def setting_out_csv(ev: Evaluation, spacing: float) -> str:
+    buf = io.StringIO()
+    writer = csv.DictWriter(buf, fieldnames=COLUMNS, lineterminator="\n")
+    writer.writeheader()
+    writer.writerows(stations(ev, spacing))
+    return buf.getvalue()
