@@ -183,7 +183,7 @@ def build_profile(levels, plan_angles, landing_angles, transition_angles,
         c0 = connections[-1]
         c1 = c0 + plan_angles[s]
         rise = levels[s + 1] - levels[s]
-        tau = transition_angles[s]
+        tau = transition_angles[s] if transition_angles[s] > 1e-9 else 0.0
         slope = storey_run_slope(rise, plan_angles[s], landing_angles[s], landing_angles[s + 1], tau, kl)
         if not math.isfinite(slope):
             raise ValueError(f"storey {s + 1}: landings and transitions leave no room for the run")

@@ -14,6 +14,7 @@ from .clearance import HeadroomPoint
 from .geometry import Helix, Thread
 from .project import Project
 from .rules import GradientLimit, Limit
+from .units import format_length
 
 __all__ = ["Check", "reference_radii", "storey_max_slope", "gradient_check", "kerb_radius_checks",
            "lane_width_check", "clear_height_check", "footprint_check", "cross_fall_check"]
@@ -89,7 +90,7 @@ def gradient_check(project: Project, helix: Helix, limit: GradientLimit) -> Chec
                 margin = lim - g
                 if worst is None or margin < worst[0]:
                     where = (f"{t.name}, {project.levels[s].name} to {project.levels[s + 1].name}, "
-                             f"{line} (r = {r:.2f} m)")
+                             f"{line} (r = {format_length(r, project.units)})")
                     worst = (margin, g, lim, where)
     _, g, lim, where = worst  # type: ignore[misc]
     return Check(limit.check_id, f"Gradient on the {limit.label}", g, lim, "max", "gradient",
@@ -109,7 +110,7 @@ def kerb_radius_checks(project: Project, helix: Helix) -> list[Check]:
     lim = rules.outer_kerb_radius
     note = ""
     if lim is not None and lim.preferred is not None and lane_out.outer_radius < lim.preferred:
-        note = f"below the preferred minimum of {lim.preferred:.2f} m"
+        note = f"below the preferred minimum of {format_length(lim.preferred, project.units)}"
     checks.append(Check("outer_kerb_radius", "Outer kerb radius of each lane", lane_out.outer_radius,
                         lim.value if lim else None, "min", "length",
                         lim.source if lim else _no_limit(rules.name),
@@ -150,8 +151,9 @@ def footprint_check(project: Project, helix: Helix) -> Check:
                  usable, "max", "length",
                  "site footprint in the project file, less its margin; structure clearance "
                  "from the rule set",
-                 f"footprint {project.site.width:.2f} x {project.site.depth:.2f} m, "
-                 f"margin {project.site.margin:.2f} m")
+                 f"footprint {format_length(project.site.width, project.units)} x "
+                 f"{format_length(project.site.depth, project.units)}, "
+                 f"margin {format_length(project.site.margin, project.units)}")
 
 
 def cross_fall_check(project: Project, helix: Helix) -> Check:

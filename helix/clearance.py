@@ -134,7 +134,9 @@ def minimum_headroom(helix: Helix, structure: Structure) -> HeadroomPoint | None
             if not np.any(np.isfinite(clear)):
                 continue
             # Ties (a plateau of equal headroom) resolve to the lowest point reached first.
-            k = int(np.flatnonzero(clear <= np.min(clear) + 1e-6)[0])
-            if best is None or clear[k] < best.clear - 1e-6:
-                best = HeadroomPoint(float(clear[k]), float(gap[k]), i, float(angles[k]), r, names[k])
+            low = float(np.min(clear))
+            k = int(np.flatnonzero(clear <= low + 1e-7)[0])
+            if best is None or low < best.clear - 1e-7:
+                best = HeadroomPoint(low, float(gap[k]) - float(clear[k]) + low, i, float(angles[k]),
+                                     r, names[k])
     return best

@@ -16,7 +16,11 @@ from typing import Any, Callable, Iterator
 
 from . import units
 
-__all__ = ["InputError", "Node"]
+__all__ = ["InputError", "Node", "MAX_LENGTH"]
+
+#: No length in a car-park helix project comes near this; larger values are typos
+#: (or fuzz) and would only make the geometry code work for nothing.
+MAX_LENGTH = 1000.0
 
 
 class InputError(Exception):
@@ -78,6 +82,12 @@ class Node:
         self._used.add(key)
         if key not in self.data or self.data[key] is None:
             if required:
+                # A misspelt key (``centre_raduis``) reads as missing: name the typo instead.
+                unread = [str(k) for k in self.data if k not in self._used]
+                close = difflib.get_close_matches(key, unread, n=1, cutoff=0.8)
+                if close:
+                    raise self.error(f"unknown key '{close[0]}'; did you mean '{key}'?",
+                                     self._key_path(close[0]))
                 raise self.error(f"missing key '{key}'", self._key_path(key))
             return None if default is None else Node(default, self.file, self._key_path(key))
         return Node(self.data[key], self.file, self._key_path(key))
@@ -112,8 +122,11 @@ class Node:
         except units.UnitError as exc:
             raise self.error(f"got {_short(self.data)}; expected {exc.expected}") from None
 
-    def length(self, *, positive: bool = False, non_negative: bool = False) -> float:
+    def length(self, *, positive: bool = False, non_negative: bool = False,
+               maximum: float = MAX_LENGTH) -> float:
         value = self._convert(units.parse_length, "length")
+        if abs(value) > maximum:
+            raise self.error(f"got {_short(self.data)}; expected a length of at most {maximum:g} m")
         if positive and not value > 0:
             raise self.error(f"got {_short(self.data)}; expected a positive length such as '3.15 m'")
         if non_negative and value < 0:
@@ -122,6 +135,8 @@ class Node:
 
     def gradient(self, *, non_negative: bool = True) -> float:
         value = self._convert(units.parse_gradient, "gradient")
+        if abs(value) > 1.0:
+            raise self.error(f"got {_short(self.data)}; expected a gradient of at most 100% (45 deg)")
         if non_negative and value < 0:
             raise self.error(f"got {_short(self.data)}; expected a gradient of zero or more such as '8.33%'")
         return value

@@ -16,6 +16,7 @@ from .clearance import HeadroomPoint, minimum_headroom
 from .geometry import Helix, Thread
 from .layout import build_helix
 from .project import Project
+from .units import format_length
 
 __all__ = ["StoreyResult", "SegmentResult", "Location", "Evaluation", "evaluate", "locate",
            "wheel_paths", "gradient_lines"]
@@ -164,7 +165,9 @@ def evaluate(project: Project, helix: Helix | None = None) -> Evaluation:
     at = None
     if head is not None:
         at = locate(project, helix.threads[head.thread], head.theta, head.radius)
-    where = (f"{at.thread}, {at.storey}, chainage {at.chainage:.2f} m, r = {at.radius:.2f} m, "
+    u = project.units
+    where = (f"{at.thread}, {at.storey}, chainage {format_length(at.chainage, u)}, "
+             f"r = {format_length(at.radius, u)}, "
              f"under {head.above}") if at is not None and head is not None else ""
     results = [ck.gradient_check(project, helix, g) for g in project.rules.gradient]
     results += ck.kerb_radius_checks(project, helix)

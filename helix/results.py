@@ -22,7 +22,7 @@ CAUTION = ("helix is a design aid. Results must be verified by a qualified profe
 def _r(x: float | None, nd: int = 4) -> float | None:
     if x is None or not math.isfinite(x):
         return None
-    return round(float(x), nd)
+    return round(float(x), nd) + 0.0  # + 0.0 turns -0.0 into 0.0
 
 
 def _check_value(c, x):
@@ -139,6 +139,7 @@ def to_json(data: dict) -> str:
 def _fmt(c, x, units: str) -> str:
     if x is None:
         return "-"
+    x = round(x, 9) + 0.0  # no "-0.000" for a value exactly at its limit
     if c.quantity == "gradient":
         return format_gradient(x, units)
     if c.quantity == "length":

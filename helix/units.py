@@ -93,7 +93,7 @@ def parse_number(value: object, expected: str = "a number") -> float:
 
 def _length_terms(text: str) -> list[tuple[float, str]]:
     s = text.strip()
-    if not s:
+    if not s or s.endswith("-"):  # the hyphen only separates feet from inches
         raise UnitError(text, LENGTH_FORMS)
     terms: list[tuple[float, str]] = []
     pos = 0
