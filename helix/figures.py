@@ -114,10 +114,15 @@ def plan_figure(ev: Evaluation):
             ax.add_patch(Circle((s(cx), s(cy)), s(h.core_radius), fc="#E0E0E0", ec=PALETTE["structure"],
                                 lw=0.8, hatch="////", label="central core"))
         phi = np.linspace(0, 2 * math.pi, 721)
+        for i, t in enumerate(h.threads):  # running surfaces first, lines over them
+            ax.add_patch(Wedge((s(cx), s(cy)), s(t.outer_radius), 0, 360, width=s(t.width),
+                               fc=PALETTE["fill"], ec="none", alpha=0.8))
         for i, t in enumerate(h.threads):
             col = THREAD_COLOURS[i % len(THREAD_COLOURS)]
-            ax.add_patch(Wedge((s(cx), s(cy)), s(t.outer_radius), 0, 360, width=s(t.width),
-                               fc=PALETTE["fill"] if i == 0 else "#F7E1D3", ec="none", alpha=0.8))
+            # Threads sharing an annulus (a double helix) get their travel arrows side by side.
+            sharing = [j for j, u in enumerate(h.threads)
+                       if abs(u.inner_radius - t.inner_radius) < 1e-9 and abs(u.outer_radius - t.outer_radius) < 1e-9]
+            nudge = (sharing.index(i) - (len(sharing) - 1) / 2) * 0.3 * t.width
             for r in (t.inner_radius, t.outer_radius):
                 ax.plot(s(cx + r * np.cos(phi)), s(cy + r * np.sin(phi)), color=PALETTE["kerb"], lw=1.3)
             if len(t.lanes) > 1:  # central kerb of a two-way helix
@@ -125,10 +130,15 @@ def plan_figure(ev: Evaluation):
                 ax.add_patch(Wedge((s(cx), s(cy)), s(b), 0, 360, width=s(b - a), fc="#BDBDBD",
                                    ec=PALETTE["kerb"], lw=0.8, label="central kerb"))
             for lane in t.lanes:
-                rc = lane.centre_radius
-                ax.plot(s(cx + rc * np.cos(phi)), s(cy + rc * np.sin(phi)), color=col, lw=0.9,
-                        ls=(0, (8, 3, 2, 3)), label=f"{t.name}: {lane.name} centre line ({lane.direction})"
-                        if len(t.lanes) > 1 else f"{t.name}: centre line ({lane.direction})")
+                rc = lane.centre_radius + nudge
+                if nudge == 0.0:
+                    ax.plot(s(cx + rc * np.cos(phi)), s(cy + rc * np.sin(phi)), color=col, lw=0.9,
+                            ls=(0, (8, 3, 2, 3)), label=f"{t.name}: {lane.name} centre line ({lane.direction})"
+                            if len(t.lanes) > 1 else f"{t.name}: centre line ({lane.direction})")
+                else:
+                    from matplotlib.lines import Line2D
+                    ax.add_line(Line2D([], [], color=col, marker=">", ls="none",
+                                       label=f"{t.name}: direction of travel ({lane.direction})"))
                 # Direction of travel: arrows along the lane, pointing the way traffic drives.
                 sense = t.hand * (1 if "up" in lane.direction.split()[0] else -1)
                 for k in range(6):
@@ -139,8 +149,14 @@ def plan_figure(ev: Evaluation):
                         (s(cx + rc * math.cos(b1)), s(cy + rc * math.sin(b1))),
                         connectionstyle=f"arc3,rad={0.11 * sense}", arrowstyle="-|>",
                         mutation_scale=11, color=col, lw=1.2))
+        for t in h.threads:
+            if sum(1 for u in h.threads if abs(u.centre_radius - t.centre_radius) < 1e-9) > 1:
+                rc = t.centre_radius
+                ax.plot(s(cx + rc * np.cos(phi)), s(cy + rc * np.sin(phi)), color="#555555", lw=0.8,
+                        ls=(0, (8, 3, 2, 3)), label="centre line")
+                break
         # Level connections: radial markers, one label per bearing listing its levels.
-        groups: dict[int, list[str]] = {}
+        groups: dict[int, list[tuple[float, str]]] = {}
         outer = h.outer_radius
         for i, t in enumerate(h.threads):
             for k, theta in enumerate(t.profile.connections):
@@ -150,11 +166,12 @@ def plan_figure(ev: Evaluation):
                 label = f"{lvl.name} {format_level(lvl.level, p.units)}"
                 if len(h.threads) > 1:
                     label += f" ({t.name.split()[0]})"
-                groups.setdefault(key, []).append(label)
+                groups.setdefault(key, []).append((lvl.level, label))
                 ax.plot([s(cx + t.inner_radius * math.cos(b)), s(cx + t.outer_radius * math.cos(b))],
                         [s(cy + t.inner_radius * math.sin(b)), s(cy + t.outer_radius * math.sin(b))],
                         color=PALETTE["critical"], lw=2.4, solid_capstyle="butt")
-        for key, labels in groups.items():
+        for key, entries in groups.items():
+            labels = [text for _, text in sorted(entries)]
             b = math.radians(key)
             rr = h.structure_radius + 0.06 * outer
             x, y = cx + rr * math.cos(b), cy + rr * math.sin(b)
