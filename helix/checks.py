@@ -17,7 +17,9 @@ from .rules import GradientLimit, Limit
 from .units import format_length
 
 __all__ = ["Check", "reference_radii", "storey_max_slope", "gradient_check", "kerb_radius_checks",
-           "lane_width_check", "clear_height_check", "footprint_check", "cross_fall_check"]
+           "lane_width_check", "clear_height_check", "footprint_check", "cross_fall_check",
+           "lane_width_swept_check", "ground_clearance_check", "roof_clearance_check",
+           "side_friction_check"]
 
 _TOL = 1e-9
 
@@ -163,3 +165,77 @@ def cross_fall_check(project: Project, helix: Helix) -> Check:
     return Check("cross_fall", "Cross-fall of the curved ramp", value, lim.value if lim else None,
                  "min", "gradient", lim.source if lim else _no_limit(rules.name),
                  "all threads")
+
+
+# ----------------------------------------------------------------------------------
+# The design vehicle
+
+def lane_width_swept_check(project: Project, helix: Helix) -> Check:
+    """Each lane against the width the vehicle's steady-state swept band needs, with the
+    rule set's clearance to both kerbs; the lane with the least margin is reported."""
+    from .turning import lane_width_needed
+    rules = project.rules
+    lim = rules.swept_path_clearance
+    clearance = lim.value if lim else 0.0
+    worst = None
+    for t in helix.threads:
+        for lane in t.lanes:
+            need, band = lane_width_needed(project.vehicle, lane.inner_radius, clearance)
+            margin = lane.width - need
+            if worst is None or margin < worst[0]:
+                worst = (margin, lane.width, need, f"{t.name}, {lane.name}", band)
+    _, width, need, where, band = worst  # type: ignore[misc]
+    src = ("steady-state offtracking of the design vehicle (AASHTO Green Book 2011 turning "
+           f"geometry) plus {clearance:.2f} m to each kerb"
+           + (f" ({lim.source})" if lim else " (no kerb clearance set by the rule set)"))
+    note = (f"swept band {format_length(band.inner_radius, project.units)} to "
+            f"{format_length(band.outer_radius, project.units)}, "
+            f"width {format_length(band.width, project.units)}")
+    return Check("lane_width_swept", "Lane width for the vehicle's swept path", width, need, "min",
+                 "length", src, where, note)
+
+
+def ground_clearance_check(project: Project, contact, where: str) -> Check:
+    rules = project.rules
+    lim = rules.ground_clearance_margin
+    value = contact.clearance if contact is not None else None
+    return Check("underbody_clearance", "Underbody and overhang clearance at changes of grade", value,
+                 lim.value if lim else 0.0, "min", "length",
+                 lim.source if lim else "geometric: the body must not touch the running surface",
+                 where, "" if contact is not None else "vehicle gives no ground clearances")
+
+
+def roof_clearance_check(project: Project, contact, where: str) -> Check:
+    rules = project.rules
+    lim = rules.vehicle_roof_clearance
+    value = contact.clearance if contact is not None else None
+    return Check("roof_clearance", "Vehicle roof below the soffit overhead", value,
+                 lim.value if lim else 0.0, "min", "length",
+                 lim.source if lim else "geometric: the roof must not touch the structure",
+                 where, "" if contact is not None else "nothing lies above the ramp")
+
+
+def side_friction_check(project: Project, helix: Helix) -> Check:
+    """Side friction demand at the design speed on each lane's centre line."""
+    from .turning import side_friction, speed_at_friction
+    rules = project.rules
+    speed = rules.design_speed.value if rules.design_speed else 15 / 3.6
+    lim = rules.side_friction_max
+    worst = None
+    for t in helix.threads:
+        for lane in t.lanes:
+            f = float(side_friction(speed, lane.centre_radius, t.cross_fall))
+            if worst is None or f > worst[0]:
+                worst = (f, t, lane)
+    f, t, lane = worst  # type: ignore[misc]
+    note = ""
+    if lim is not None:
+        v_lim = float(speed_at_friction(lim.value, lane.centre_radius, t.cross_fall))
+        note = f"limit reached at {v_lim * 3.6:.0f} km/h"
+    src_speed = rules.design_speed.source if rules.design_speed else "15 km/h, common practice, no single source"
+    return Check("side_friction", "Side friction demand at the design speed", f,
+                 lim.value if lim else None, "max", "number",
+                 (lim.source if lim else _no_limit(rules.name)) + f"; design speed {speed * 3.6:.0f} km/h "
+                 f"({src_speed}); f = V^2/(127 R) - e, AASHTO Green Book 2011",
+                 f"{t.name}, {lane.name} centre (r = {format_length(lane.centre_radius, project.units)}), "
+                 f"e = {100 * t.cross_fall:.1f} %", note)

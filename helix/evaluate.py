@@ -12,11 +12,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import checks as ck
-from .clearance import HeadroomPoint, minimum_headroom
+from .clearance import HeadroomPoint, headroom, minimum_headroom
 from .geometry import Helix, Thread
 from .layout import build_helix
 from .project import Project
 from .units import format_length
+from .vehicle_clearance import GroundContact, PathProfile, minimum_clearance
 
 __all__ = ["StoreyResult", "SegmentResult", "Location", "Evaluation", "evaluate", "locate",
            "wheel_paths", "gradient_lines"]
@@ -60,6 +61,17 @@ class Location:
 
 
 @dataclass(frozen=True)
+class VehicleContact:
+    """The governing clearance of the design vehicle on one line of one thread."""
+
+    thread: int
+    lane: str
+    line: str  # "inner wheels", "outer body side", ...
+    radius: float
+    contact: GroundContact
+
+
+@dataclass(frozen=True)
 class Evaluation:
     project: Project
     helix: Helix
@@ -68,6 +80,8 @@ class Evaluation:
     headroom: HeadroomPoint | None
     headroom_at: Location | None
     segments: tuple[SegmentResult, ...] = ()
+    ground: VehicleContact | None = None  # smallest underbody or overhang clearance
+    roof: VehicleContact | None = None  # smallest roof clearance
 
     @property
     def ok(self) -> bool:
@@ -140,6 +154,52 @@ def _segments(project: Project, helix: Helix) -> list[SegmentResult]:
     return out
 
 
+def vehicle_clearances(project: Project, helix: Helix) -> tuple[VehicleContact | None, VehicleContact | None]:
+    """Roll the design vehicle along every wheel path (underbody, overhangs) and every
+    body side (roof against the soffit overhead) of every lane; return the governing
+    ground and roof contacts."""
+    v = project.vehicle
+    track = v.track if v.track is not None else v.width
+    ground = roof = None
+    for i, t in enumerate(helix.threads):
+        for lane in t.lanes:
+            paths = {"inner wheels": lane.centre_radius - 0.5 * track,
+                     "outer wheels": lane.centre_radius + 0.5 * track}
+            for line, r in paths.items():
+                res = minimum_clearance(v, PathProfile(t.profile, r))
+                for part, c in res.items():
+                    if ground is None or c.clearance < ground.contact.clearance:
+                        ground = VehicleContact(i, lane.name, line, r, c)
+            sides = {"inner body side": lane.centre_radius - 0.5 * v.width,
+                     "outer body side": lane.centre_radius + 0.5 * v.width}
+            for line, r in sides.items():
+                path = PathProfile(t.profile, r)
+
+                def soffit(s_, path=path, r=r, i=i, t=t):
+                    theta = path.theta(s_)
+                    clear, _, _ = headroom(helix, project.structure, i, theta.ravel(), r)
+                    return (t.profile.level(theta.ravel()) + clear).reshape(np.shape(s_))
+
+                res = minimum_clearance(v, path, soffit=soffit)
+                c = res.get("roof")
+                if c is not None and math.isfinite(c.clearance) and (
+                        roof is None or c.clearance < roof.contact.clearance):
+                    roof = VehicleContact(i, lane.name, line, r, c)
+    return ground, roof
+
+
+def _contact_where(project: Project, helix: Helix, vc: VehicleContact | None) -> str:
+    if vc is None:
+        return ""
+    t = helix.threads[vc.thread]
+    path = PathProfile(t.profile, vc.radius)
+    theta = float(path.theta(vc.contact.s_point))
+    at = locate(project, t, theta, vc.radius)
+    u = project.units
+    return (f"{t.name}, {vc.lane}, {vc.line} (r = {format_length(vc.radius, u)}), {vc.contact.part} "
+            f"facing {vc.contact.facing}, {at.storey}, chainage {format_length(at.chainage, u)}")
+
+
 def _storeys(project: Project, helix: Helix) -> list[StoreyResult]:
     out = []
     for t in helix.threads:
@@ -175,6 +235,13 @@ def evaluate(project: Project, helix: Helix | None = None) -> Evaluation:
     results.append(ck.clear_height_check(project, head, where))
     results.append(ck.cross_fall_check(project, helix))
     results.append(ck.footprint_check(project, helix))
+    results.append(ck.lane_width_swept_check(project, helix))
+    ground, roof = vehicle_clearances(project, helix)
+    results.append(ck.ground_clearance_check(project, ground.contact if ground else None,
+                                             _contact_where(project, helix, ground)))
+    results.append(ck.roof_clearance_check(project, roof.contact if roof else None,
+                                           _contact_where(project, helix, roof)))
+    results.append(ck.side_friction_check(project, helix))
     return Evaluation(project=project, helix=helix, checks=tuple(results),
                       storeys=tuple(_storeys(project, helix)), headroom=head, headroom_at=at,
-                      segments=tuple(_segments(project, helix)))
+                      segments=tuple(_segments(project, helix)), ground=ground, roof=roof)

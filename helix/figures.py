@@ -21,7 +21,8 @@ from .clearance import headroom  # noqa: E402
 from .evaluate import Evaluation  # noqa: E402
 from .units import FOOT, format_length, format_level  # noqa: E402
 
-__all__ = ["plan_figure", "section_figure", "cross_section_figure", "render_all", "STYLE", "PALETTE"]
+__all__ = ["plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "render_all",
+           "STYLE", "PALETTE"]
 
 # Okabe-Ito colours, each with a role that stays the same in every figure.
 PALETTE = {
@@ -414,6 +415,117 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None):
     return fig
 
 
+def _vehicle_outline(v, path, s_a, facing):
+    """Side-view outline of the vehicle (wheel contacts, underbody, overhang ends,
+    roof) placed with its lower contact at ``s_a``, in path coordinates."""
+    from .vehicle_clearance import place
+    s_a, za, s_b, zb, us, uz = place(v, path, [s_a], facing)
+    s_a, za, s_b, zb, us, uz = (float(x[0]) for x in (s_a, za, s_b, zb, us, uz))
+    nx, nz = -uz, us
+    if facing == "up":
+        (l_lo, h_lo), (l_hi, h_hi) = (v.rear_overhang, v.rear_overhang_clearance), \
+            (v.front_overhang, v.front_overhang_clearance)
+    else:
+        (l_lo, h_lo), (l_hi, h_hi) = (v.front_overhang, v.front_overhang_clearance), \
+            (v.rear_overhang, v.rear_overhang_clearance)
+    h = v.ground_clearance or 0.1
+    h_lo = h_lo if h_lo is not None else h
+    h_hi = h_hi if h_hi is not None else h
+
+    def pt(base_s, base_z, along, up):
+        return (base_s + along * us + up * nx, base_z + along * uz + up * nz)
+
+    outline = [pt(s_a, za, -l_lo, h_lo), pt(s_a, za, 0.0, h), pt(s_b, zb, 0.0, h),
+               pt(s_b, zb, l_hi, h_hi), pt(s_b, zb, l_hi, 0.75 * v.height), pt(s_b, zb, 0.2 * v.wheelbase, v.height),
+               pt(s_a, za, 0.1 * v.wheelbase, v.height), pt(s_a, za, -l_lo, 0.8 * v.height)]
+    wheels = [(s_a, za), (s_b, zb)]
+    return outline, wheels, (us, uz)
+
+
+def clearance_figure(ev: Evaluation):
+    """Elevation along the governing wheel path (underbody or overhang) and body side
+    (roof), with the vehicle drawn at its critical position and both clearances
+    dimensioned.  True scale, no exaggeration."""
+    from matplotlib.patches import Polygon
+    from .vehicle_clearance import PathProfile
+    p, h, v = ev.project, ev.helix, ev.project.vehicle
+    s = _Scale(p.units)
+    cases = [("ground", ev.ground, "underbody and overhang clearance"), ("roof", ev.roof, "roof clearance")]
+    cases = [c for c in cases if c[1] is not None]
+    with plt.rc_context(STYLE):
+        fig, axes = plt.subplots(max(len(cases), 1), 1, figsize=A4_LANDSCAPE, squeeze=False)
+        fig.subplots_adjust(left=0.08, right=0.97, top=0.86, bottom=0.08, hspace=0.45)
+        _title(fig, ev, f"clearances of the design vehicle {v.name}")
+        for ax, (kind, vc, label) in zip(axes[:, 0], cases):
+            t = h.threads[vc.thread]
+            path = PathProfile(t.profile, vc.radius)
+            c = vc.contact
+            span = v.length + 6.0
+            xs = np.linspace(c.s_point - span, c.s_point + span, 1200)
+            xs = np.unique(np.concatenate([xs, path.breaks[(path.breaks > xs[0]) & (path.breaks < xs[-1])]]))
+            zg = path.z(xs)
+            ax.fill_between(s(xs), s(zg - 0.35), s(zg), color="#D9D9D9", lw=0)
+            ax.plot(s(xs), s(zg), color="black", lw=1.4, label=f"running surface on the {vc.line}")
+            for kind_, st, a, b in t.profile.segments():
+                if kind_ != "run":
+                    xa, xb = vc.radius * (a - t.profile.start), vc.radius * (b - t.profile.start)
+                    if xb > xs[0] and xa < xs[-1]:
+                        ax.axvspan(s(max(xa, xs[0])), s(min(xb, xs[-1])), color="#EEEEEE" if kind_ == "landing"
+                                   else "#F6E8C3", lw=0, zorder=0)
+            theta = path.theta(xs)
+            clear, _, _ = headroom(h, p.structure, vc.thread, theta, vc.radius)
+            soffit = t.profile.level(theta) + clear
+            if np.any(np.isfinite(soffit)):
+                ax.plot(s(xs), s(np.where(np.isfinite(soffit), soffit, np.nan)), color=PALETTE["soffit"],
+                        lw=1.4, ls="--", label="soffit of the structure above")
+                top = np.where(np.isfinite(soffit), soffit + p.structure.depth, np.nan)
+                ax.fill_between(s(xs), s(soffit), s(top), where=np.isfinite(soffit), color=PALETTE["soffit"],
+                                alpha=0.25, lw=0)
+            outline, wheels, (us, uz) = _vehicle_outline(v, path, c.s_rear, c.facing)
+            ax.add_patch(Polygon([(float(s(a)), float(s(b))) for a, b in outline], closed=True,
+                                 fc=PALETTE["fill"], ec=PALETTE["lane"], lw=1.2, zorder=4,
+                                 label=f"{v.name} facing {c.facing} the ramp"))
+            wr = 0.32
+            for ws, wz in wheels:
+                ax.add_patch(Circle((float(s(ws - wr * uz)), float(s(wz + wr * us))), float(s(wr)), fc="#333333",
+                                    ec="black", zorder=5))
+            # Dimension the governing clearance at its point.
+            zp = float(path.z(c.s_point))
+            if kind == "ground":
+                z0, z1 = zp, zp + c.clearance / max(us, 1e-9)
+            else:
+                soff = float(t.profile.level(path.theta(c.s_point)) +
+                             headroom(h, p.structure, vc.thread, [float(path.theta(c.s_point))], vc.radius)[0][0])
+                z0, z1 = soff - c.clearance / max(us, 1e-9), soff
+            x = float(s(c.s_point))
+            ax.annotate("", (x, float(s(z1))), (x, float(s(z0))),
+                        arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["critical"], lw=1.3, shrinkA=0, shrinkB=0),
+                        zorder=7)
+            chk = ev.check("underbody_clearance" if kind == "ground" else "roof_clearance")
+            ax.annotate(f"{c.part}: {format_length(c.clearance, p.units)}\n"
+                        f"limit {format_length(chk.limit or 0.0, p.units)}, {chk.status}",
+                        (x, float(s(z1))), (10, 14), textcoords="offset points", fontsize=8,
+                        color=PALETTE["critical"], zorder=8,
+                        arrowprops=dict(arrowstyle="-", color=PALETTE["critical"], lw=0.6),
+                        bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=PALETTE["critical"], lw=0.6))
+            ax.set_aspect("equal")
+            ax.set_xlim(s(xs[0]), s(xs[-1]))
+            zlo = float(np.min(zg)) - 0.4
+            zhi = max(float(np.nanmax(zg)) + v.height + 0.6,
+                      float(np.nanmax(np.where(np.isfinite(soffit), soffit, -np.inf))) + 0.2
+                      if np.any(np.isfinite(soffit)) else -np.inf)
+            ax.set_ylim(s(zlo), s(min(zhi, zlo + 0.45 * (xs[-1] - xs[0]))))
+            ax.set_title(f"{label}: {t.name}, {vc.lane}, {vc.line} at r = {format_length(vc.radius, p.units)}",
+                         loc="left")
+            ax.set_xlabel(f"distance along the {vc.line} path ({s.name})")
+            ax.set_ylabel(f"level ({s.name})")
+            ax.grid(True, lw=0.3, color="#DDDDDD")
+            ax.legend(loc="best", ncol=3, fontsize=7.5)
+        fig.text(0.08, 0.02, "True scale. Wheels drawn for orientation; the check treats tyre contacts as points. "
+                 "Shaded bands: landings (grey), transitions (sand).", fontsize=7.5, color="#444444")
+    return fig
+
+
 def _save(fig, fmt: str) -> bytes:
     buf = io.BytesIO()
     meta = {"Date": None} if fmt == "svg" else ({"Software": None} if fmt == "png" else {})
@@ -425,7 +537,7 @@ def render_all(ev: Evaluation) -> dict[str, bytes]:
     """Every figure as PNG (300 dpi) and SVG, keyed by file name."""
     out: dict[str, bytes] = {}
     for name, make in (("plan", plan_figure), ("section", section_figure),
-                       ("cross_section", cross_section_figure)):
+                       ("cross_section", cross_section_figure), ("clearance", clearance_figure)):
         fig = make(ev)
         try:
             with plt.rc_context(STYLE):

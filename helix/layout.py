@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import replace
+from functools import lru_cache
 
 from .alignment import build_profile, storey_run_slope
 from .geometry import TWO_PI, Helix, Lane, Thread
@@ -49,6 +50,43 @@ def transition_length(project: Project, spec: DesignSpec, grade_change: float) -
     return rule.length
 
 
+@lru_cache(maxsize=256)
+def _shortest(vehicle, grade: float, kind: str, margin: float, landing_grade: float) -> float:
+    from .vehicle_clearance import shortest_transition
+    return shortest_transition(vehicle, grade, kind, margin, landing_grade)
+
+
+def vehicle_transition(project: Project, spec: DesignSpec, centre_radius: float, inner_kerb: float,
+                       rise: float, plan_angle: float, landing_below: float, landing_above: float) -> float:
+    """Plan angle of the transitions that the design vehicle needs on one storey.
+
+    Sized on the innermost wheel path, where the change of grade is sharpest, then
+    carried to the centre line (same plan angle); the run steepens as the transitions
+    grow, so the size is iterated to a fixed point.
+    """
+    v = project.vehicle
+    track = v.track if v.track is not None else v.width
+    r_w = inner_kerb + 0.5 * spec.lane_widths[0] - 0.5 * track
+    margin = project.rules.ground_clearance_margin.value if project.rules.ground_clearance_margin else 0.0
+    tau = 0.0
+    for _ in range(6):
+        k = storey_run_slope(rise, plan_angle, landing_below, landing_above, tau,
+                             spec.landing_fall * centre_radius)
+        if not math.isfinite(k):
+            raise ValueError("the transitions the vehicle needs leave no room for the run")
+        grade_w = round(k / r_w, 5)  # rounded: storeys of equal rise share one sizing
+        fall_w = round(spec.landing_fall * centre_radius / r_w, 5)
+        length_w = _shortest(v, grade_w, spec.transition_kind, margin, fall_w)
+        if not math.isfinite(length_w):
+            raise ValueError(f"no {spec.transition_kind} transition lets {v.name} clear a change of "
+                             f"grade of {100 * abs(grade_w - fall_w):.1f} %; use kind 'curve' or a flatter ramp")
+        new_tau = length_w / r_w
+        if abs(new_tau - tau) < 1e-6:
+            break
+        tau = max(tau, new_tau)
+    return tau
+
+
 def _lanes(inner: float, widths: tuple[float, ...], central: float, hand: int,
            keep_right: bool, one_way_direction: str) -> tuple[Lane, ...]:
     if len(widths) == 1:
@@ -72,6 +110,10 @@ def _thread(project: Project, spec: DesignSpec, name: str, centre_radius: float,
     landing_slope = spec.landing_fall * centre_radius
     transitions = []
     for s, rise in enumerate(project.storey_heights):
+        if spec.transition_auto:
+            transitions.append(vehicle_transition(project, spec, centre_radius, inner, rise, plan[s],
+                                                  landings[s], landings[s + 1]))
+            continue
         # First the run grade with no transition, to decide whether one is needed.
         k0 = storey_run_slope(rise, plan[s], landings[s], landings[s + 1], 0.0, landing_slope)
         change = abs(k0 / centre_radius - spec.landing_fall) if math.isfinite(k0) else math.inf

@@ -82,6 +82,7 @@ class DesignSpec:
     cross_fall: float | None
     cross_fall_inward: bool
     landing_fall: float = 0.0  # grade of the landings along the ascent (drainage)
+    transition_auto: bool = False  # size transitions for the design vehicle
     connections: str = "free"  # "free", "same_side" or "alternate"
     keep_right: bool = True  # two-way traffic keeps right
 
@@ -242,13 +243,17 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpe
     ll = node.child("landing_length", required=False)
     landing = ll.length(non_negative=True) if ll else None
     tr = node.child("transition", required=False)
-    t_len, t_kind = None, "segment"
+    t_len, t_kind, t_auto = None, "segment", False
     if tr is not None:
         if tr.data in ("none", False, 0):
             t_len = 0.0
         else:
             tr.require_mapping()
-            t_len = tr.child("length").length(non_negative=True)
+            ln = tr.child("length")
+            if ln.data == "vehicle":
+                t_auto = True
+            else:
+                t_len = ln.length(non_negative=True)
             kind = tr.child("kind", required=False)
             t_kind = kind.text(TRANSITION_KINDS) if kind else "segment"
             tr.done()
@@ -276,7 +281,8 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpe
                       central_kerb=central if n_lanes > 1 else 0.0, divider=divider, hand=hand,
                       start_bearing=start, landing_length=landing, transition_length=t_len,
                       transition_kind=t_kind, cross_fall=cross, cross_fall_inward=inward,
-                      landing_fall=landing_fall, connections=connections, keep_right=keep_right)
+                      landing_fall=landing_fall, connections=connections, keep_right=keep_right,
+                      transition_auto=t_auto)
 
 
 def _pin_bearings(levels_node: Node, levels: tuple[Level, ...], design: DesignSpec) -> DesignSpec:

@@ -91,6 +91,8 @@ class RuleSet:
     design_speed: Limit | None = None
     side_friction_max: Limit | None = None
     vehicle_roof_clearance: Limit | None = None
+    swept_path_clearance: Limit | None = None
+    ground_clearance_margin: Limit | None = None
     files: tuple[str, ...] = field(default=(), compare=False)
 
     def clearance_outside(self) -> float:
@@ -111,7 +113,8 @@ class RuleSet:
                     "inner_kerb_radius", "outer_kerb_radius", "clear_height",
                     "structure_clearance_outside", "structure_clearance_inside",
                     "cross_fall_min", "cross_fall_max", "landing_length", "design_speed",
-                    "side_friction_max", "vehicle_roof_clearance"):
+                    "side_friction_max", "vehicle_roof_clearance", "swept_path_clearance",
+                    "ground_clearance_margin"):
             lim = getattr(self, key)
             if lim is not None:
                 rows.append((key, _value_text(key, lim.value), lim.source))
@@ -149,6 +152,8 @@ _SIMPLE: dict[str, tuple[str, str, str]] = {
     "design_speed": ("design_speed", "value", "speed"),
     "side_friction": ("side_friction_max", "max", "number"),
     "vehicle_roof_clearance": ("vehicle_roof_clearance", "min", "length"),
+    "swept_path_clearance": ("swept_path_clearance", "value", "length"),
+    "ground_clearance_margin": ("ground_clearance_margin", "min", "length"),
 }
 _KEYS = ("name", "title", "notes", "extends", "gradient", "cross_fall", "transition", *_SIMPLE)
 

@@ -15,10 +15,13 @@ from helix.cli import main
 CONFIGS = Path(__file__).resolve().parent.parent / "configs"
 DEMOS = ["demo-metric.yaml", "demo-imperial.yaml"]
 # The checks the README lists: gradient on the reference line, inner and outer kerb radius,
-# lane width, clear headroom, cross-fall and fit in the footprint.
+# lane width, clear headroom, cross-fall and fit in the footprint, and the four checks of
+# the design vehicle.
 CHECK_IDS = {"gradient_centre_line", "inner_kerb_radius", "outer_kerb_radius", "lane_width",
-             "clear_height", "cross_fall", "footprint"}
-FIGURES = ["plan.png", "plan.svg", "section.png", "section.svg"]
+             "clear_height", "cross_fall", "footprint", "lane_width_swept", "underbody_clearance",
+             "roof_clearance", "side_friction"}
+FIGURES = ["plan.png", "plan.svg", "section.png", "section.svg", "cross_section.png",
+           "cross_section.svg", "clearance.png", "clearance.svg"]
 
 
 def run(capsys, *args):
