@@ -61,7 +61,7 @@ def check_radii(thread: Thread) -> tuple[float, float, float]:
     return (thread.inner_radius, thread.centre_radius, thread.outer_radius)
 
 
-def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float):
+def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float, labels: bool = True):
     """Clear headroom and gap over thread ``i`` at plan angles ``theta`` and ``radius``.
 
     Returns ``(clear, gap, above)``: arrays of clear headroom and gap (``inf`` where
@@ -73,7 +73,7 @@ def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float):
     best = np.full(th.shape, np.inf)
     clear = np.full(th.shape, np.inf)
     above = np.full(th.shape, -1, dtype=int)
-    labels: list[str] = []
+    found: list[str] = []
     for j, shift in overhead_shifts(helix, i):
         u = helix.threads[j]
         if not u.covers(radius):
@@ -81,19 +81,21 @@ def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float):
         gap = u.level(th + shift, radius) - z
         take = np.isfinite(gap) & (gap > 1e-9) & (gap < best)
         if np.any(take):
-            labels.append(u.name if j != i else "the same thread, a turn higher")
+            found.append(u.name if j != i else "the same thread, a turn higher")
             best = np.where(take, gap, best)
             clear = np.where(take, gap - structure.depth, clear)
-            above = np.where(take, len(labels) - 1, above)
+            above = np.where(take, len(found) - 1, above)
     if structure.cover_soffit is not None:
         gap = structure.cover_soffit - z
         take = np.isfinite(gap) & (gap < clear)
         if np.any(take):
-            labels.append("the cover slab")
+            found.append("the cover slab")
             best = np.where(take, gap, best)
             clear = np.where(take, gap, clear)
-            above = np.where(take, len(labels) - 1, above)
-    names = [labels[a] if a >= 0 else "nothing" for a in above]
+            above = np.where(take, len(found) - 1, above)
+    if not labels:
+        return clear, best, None
+    names = [found[a] if a >= 0 else "nothing" for a in above]
     return clear, best, names
 
 

@@ -13,6 +13,10 @@ from pathlib import Path
 from . import __version__
 from .errors import InputError
 
+EXAMPLES_DESIGN = """example:
+  helix design configs/demo-search.yaml
+  helix design configs/demo-search.yaml -o out/search --json > options.json"""
+
 EXAMPLES_CHECK = """example:
   helix check configs/demo-metric.yaml -o out/metric
   helix check configs/demo-imperial.yaml --json > result.json"""
@@ -37,6 +41,17 @@ def _parser() -> argparse.ArgumentParser:
     check.add_argument("--stations", metavar="LENGTH", default=None,
                        help="spacing of the setting-out stations written with -o (default 5 m, "
                             "or 10 ft for a project in feet)")
+    dsg = sub.add_parser("design", help="search the layouts, radii and turns of a project file",
+                         description="Search every layout, radius, turns per storey and lane width "
+                                     "that PROJECT allows; rank the best design of each layout and "
+                                     "explain the ones that cannot work.", epilog=EXAMPLES_DESIGN,
+                         formatter_class=argparse.RawDescriptionHelpFormatter)
+    dsg.add_argument("project", help="project file (YAML) with search ranges in 'design'")
+    dsg.add_argument("-o", "--output", metavar="DIR",
+                     help="also write the chosen design's checks and figures, design.json and the "
+                          "Pareto figure to DIR")
+    dsg.add_argument("--json", action="store_true", help="print the options as JSON instead of a table")
+    dsg.add_argument("--stations", metavar="LENGTH", default=None, help="setting-out station spacing")
     return parser
 
 
@@ -87,6 +102,9 @@ def _check(args) -> int:
     from .results import check_table, to_dict, to_json
 
     project = load_project(args.project)
+    if project.search is not None and not project.search.fixed:
+        raise InputError(project.file, "design", "has search ranges or choices; expected one fixed "
+                         "design for 'helix check' (run 'helix design' to search)")
     try:
         result = evaluate(project)
     except ValueError as exc:  # geometry that cannot be built, e.g. landings too long
@@ -95,12 +113,7 @@ def _check(args) -> int:
     data = to_dict(result)
     text = to_json(data)
     if args.output:
-        from .figures import render_all
-        from .setting_out import setting_out_csv
-        spacing = _station_spacing(args.stations, project.units)
-        files = render_all(result)  # everything in memory first: a failure writes nothing
-        files["setting_out.csv"] = setting_out_csv(result, spacing).encode()
-        files["result.json"] = text.encode()
+        files = _check_outputs(result, project, args.stations)  # all in memory: a failure writes nothing
         write_outputs(Path(args.output), files)
     if args.json:
         sys.stdout.write(text)
@@ -109,6 +122,45 @@ def _check(args) -> int:
         if args.output:
             sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
     return 0 if result.ok else 1
+
+
+def _check_outputs(result, project, stations) -> dict[str, bytes]:
+    from .figures import render_all
+    from .results import to_dict, to_json
+    from .setting_out import setting_out_csv
+    files = render_all(result)
+    files["setting_out.csv"] = setting_out_csv(result, _station_spacing(stations, project.units)).encode()
+    files["result.json"] = to_json(to_dict(result)).encode()
+    return files
+
+
+def _design(args) -> int:
+    from .project import load_project
+    from .results import design_dict, design_table, to_json
+    from .search import design
+
+    project = load_project(args.project)
+    try:
+        result = design(project)
+    except ValueError as exc:
+        raise InputError(project.file, "design", f"{exc}; expected a search space whose designs can be "
+                         "built") from None
+    text = to_json(design_dict(result))
+    if args.output:
+        from .figures import pareto_figure, figure_bytes
+        files: dict[str, bytes] = {}
+        if result.best is not None:
+            files.update(_check_outputs(result.options[result.best].evaluation, project, args.stations))
+        files.update(figure_bytes("pareto", pareto_figure(result)))
+        files["design.json"] = text.encode()
+        write_outputs(Path(args.output), files)
+    if args.json:
+        sys.stdout.write(text)
+    else:
+        sys.stdout.write(design_table(result))
+        if args.output:
+            sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
+    return 0 if result.best is not None else 1
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -120,6 +172,8 @@ def main(argv: list[str] | None = None) -> int:
     try:
         if args.command == "check":
             return _check(args)
+        if args.command == "design":
+            return _design(args)
     except InputError as exc:
         print(f"helix: error: {exc.line()}", file=sys.stderr)
         return 2

@@ -166,7 +166,7 @@ def vehicle_clearances(project: Project, helix: Helix) -> tuple[VehicleContact |
             paths = {"inner wheels": lane.centre_radius - 0.5 * track,
                      "outer wheels": lane.centre_radius + 0.5 * track}
             for line, r in paths.items():
-                res = minimum_clearance(v, PathProfile(t.profile, r))
+                res = minimum_clearance(v, PathProfile(t.profile, r), focus=0.005)
                 for part, c in res.items():
                     if ground is None or c.clearance < ground.contact.clearance:
                         ground = VehicleContact(i, lane.name, line, r, c)
@@ -177,10 +177,10 @@ def vehicle_clearances(project: Project, helix: Helix) -> tuple[VehicleContact |
 
                 def soffit(s_, path=path, r=r, i=i, t=t):
                     theta = path.theta(s_)
-                    clear, _, _ = headroom(helix, project.structure, i, theta.ravel(), r)
+                    clear, _, _ = headroom(helix, project.structure, i, theta.ravel(), r, labels=False)
                     return (t.profile.level(theta.ravel()) + clear).reshape(np.shape(s_))
 
-                res = minimum_clearance(v, path, soffit=soffit)
+                res = minimum_clearance(v, path, soffit=soffit, focus=0.005)
                 c = res.get("roof")
                 if c is not None and math.isfinite(c.clearance) and (
                         roof is None or c.clearance < roof.contact.clearance):
@@ -218,8 +218,12 @@ def _storeys(project: Project, helix: Helix) -> list[StoreyResult]:
     return out
 
 
-def evaluate(project: Project, helix: Helix | None = None) -> Evaluation:
-    """Measure and check ``helix`` (default: the project's fixed design)."""
+def evaluate(project: Project, helix: Helix | None = None, vehicle: bool = True) -> Evaluation:
+    """Measure and check ``helix`` (default: the project's fixed design).
+
+    ``vehicle=False`` leaves out the checks that roll the design vehicle along the
+    ramp (underbody and roof clearance), the slow part, for designs already known to
+    fail."""
     helix = build_helix(project) if helix is None else helix
     head = minimum_headroom(helix, project.structure)
     at = None
@@ -236,11 +240,13 @@ def evaluate(project: Project, helix: Helix | None = None) -> Evaluation:
     results.append(ck.cross_fall_check(project, helix))
     results.append(ck.footprint_check(project, helix))
     results.append(ck.lane_width_swept_check(project, helix))
-    ground, roof = vehicle_clearances(project, helix)
-    results.append(ck.ground_clearance_check(project, ground.contact if ground else None,
-                                             _contact_where(project, helix, ground)))
-    results.append(ck.roof_clearance_check(project, roof.contact if roof else None,
-                                           _contact_where(project, helix, roof)))
+    ground = roof = None
+    if vehicle:
+        ground, roof = vehicle_clearances(project, helix)
+        results.append(ck.ground_clearance_check(project, ground.contact if ground else None,
+                                                 _contact_where(project, helix, ground)))
+        results.append(ck.roof_clearance_check(project, roof.contact if roof else None,
+                                               _contact_where(project, helix, roof)))
     results.append(ck.side_friction_check(project, helix))
     return Evaluation(project=project, helix=helix, checks=tuple(results),
                       storeys=tuple(_storeys(project, helix)), headroom=head, headroom_at=at,

@@ -21,7 +21,8 @@ from .clearance import headroom  # noqa: E402
 from .evaluate import Evaluation  # noqa: E402
 from .units import FOOT, format_length, format_level  # noqa: E402
 
-__all__ = ["plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "render_all",
+__all__ = ["plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "pareto_figure",
+           "figure_bytes", "render_all",
            "STYLE", "PALETTE"]
 
 # Okabe-Ito colours, each with a role that stays the same in every figure.
@@ -533,16 +534,64 @@ def _save(fig, fmt: str) -> bytes:
     return buf.getvalue()
 
 
+def figure_bytes(name: str, fig) -> dict[str, bytes]:
+    """``fig`` as ``name.png`` (300 dpi) and ``name.svg``; the figure is closed."""
+    try:
+        with plt.rc_context(STYLE):
+            return {f"{name}.png": _save(fig, "png"), f"{name}.svg": _save(fig, "svg")}
+    finally:
+        plt.close(fig)
+
+
 def render_all(ev: Evaluation) -> dict[str, bytes]:
-    """Every figure as PNG (300 dpi) and SVG, keyed by file name."""
+    """Every figure of one design as PNG (300 dpi) and SVG, keyed by file name."""
     out: dict[str, bytes] = {}
     for name, make in (("plan", plan_figure), ("section", section_figure),
                        ("cross_section", cross_section_figure), ("clearance", clearance_figure)):
-        fig = make(ev)
-        try:
-            with plt.rc_context(STYLE):
-                out[f"{name}.png"] = _save(fig, "png")
-                out[f"{name}.svg"] = _save(fig, "svg")
-        finally:
-            plt.close(fig)
+        out.update(figure_bytes(name, make(ev)))
     return out
+
+
+def pareto_figure(result):
+    """Footprint against steepest gradient for every screened feasible design, by
+    layout; the Pareto set (with drive length) and each layout's choice marked."""
+    from .search import LAYOUT_TITLES
+    p = result.project
+    s = _Scale(p.units)
+    with plt.rc_context(STYLE):
+        fig, ax = plt.subplots(figsize=A4_LANDSCAPE)
+        fig.subplots_adjust(left=0.08, right=0.75, top=0.88, bottom=0.09)
+        fig.suptitle(f"{p.name}: design search", x=0.02, ha="left", fontsize=12, fontweight="bold")
+        fig.text(0.02, 0.935, f"objective {p.search.objective}; every feasible screened design; design aid "
+                 "only: verify against the codes in force", fontsize=8, color="#444444")
+        layouts = sorted({c["layout"] for c in result.cloud})
+        markers = {"single-one-way": "o", "single-two-way": "s", "double": "D", "concentric": "^"}
+        for i, lay in enumerate(layouts):
+            pts = [c for c in result.cloud if c["layout"] == lay]
+            ax.scatter(s([c["diameter_m"] for c in pts]), [c["steepest_inner_pct"] for c in pts], s=14,
+                       marker=markers.get(lay, "o"), color=THREAD_COLOURS[i % 4], alpha=0.45,
+                       label=LAYOUT_TITLES[lay])
+        if result.pareto:
+            par = sorted(result.pareto, key=lambda c: c["diameter_m"])
+            ax.scatter(s([c["diameter_m"] for c in par]), [c["steepest_inner_pct"] for c in par], s=42,
+                       facecolors="none", edgecolors="black", lw=0.9, label="Pareto set (with drive length)")
+        for o in result.options:
+            if o.feasible and o.evaluation is not None:
+                ev = o.evaluation
+                x, y = float(s(ev.helix.overall_diameter)), 100 * ev.max_gradient("inner kerb")
+                star = result.options.index(o) == result.best
+                ax.plot([x], [y], marker="*" if star else "P", ms=16 if star else 11, color=PALETTE["critical"],
+                        mec="black", ls="none")
+                ax.annotate(f"{LAYOUT_TITLES[o.layout]}\n{'best' if star else 'best of layout'}", (x, y),
+                            (8, 8), textcoords="offset points", fontsize=8)
+        usable = min(p.site.usable)
+        ax.axvline(float(s(usable)), color=PALETTE["footprint"], lw=1.4, ls="--", label="usable footprint")
+        failed = [LAYOUT_TITLES[o.layout] for o in result.options if not o.feasible]
+        if failed:
+            fig.text(0.76, 0.40, "No feasible design:\n" + "\n".join(failed) +
+                     "\n(see the explanation in the table)", fontsize=8, va="top")
+        ax.set_xlabel(f"overall diameter with structure ({s.name})")
+        ax.set_ylabel("steepest gradient at the inner kerb (%)")
+        ax.grid(True, lw=0.3, color="#DDDDDD")
+        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0)
+    return fig

@@ -20,7 +20,7 @@ from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
 from .vehicle import Vehicle, load_vehicle
 
-__all__ = ["Level", "Structure", "Site", "DesignSpec", "Project", "load_project",
+__all__ = ["Level", "Structure", "Site", "DesignSpec", "SearchSpace", "Project", "load_project",
            "DEFAULT_RULE_SET", "DEFAULT_VEHICLE"]
 
 DEFAULT_RULE_SET = "conservative-default"
@@ -91,6 +91,26 @@ class DesignSpec:
         return sum(self.lane_widths) + (self.central_kerb if len(self.lane_widths) > 1 else 0.0)
 
 
+SEARCH_LAYOUTS = ("single-one-way", "single-two-way", "double", "concentric")
+OBJECTIVES = ("footprint", "gradient", "drive", "headroom")
+
+
+@dataclass(frozen=True)
+class SearchSpace:
+    """What ``helix design`` may vary.  A value fixed in the project file is a range of
+    one; ``lane_widths`` is ``None`` for "auto" (the larger of the rule minimum and the
+    vehicle's swept requirement)."""
+
+    layouts: tuple[str, ...]
+    radius_min: float
+    radius_max: float
+    turns_choices: tuple[float, ...] | None  # None: the fixed turns of the design, storey by storey
+    lane_widths: tuple[float, ...] | None
+    target_gradient: float | None
+    objective: str
+    fixed: bool  # the design section gives one fully specified helix
+
+
 @dataclass(frozen=True)
 class Project:
     name: str
@@ -104,6 +124,7 @@ class Project:
     vehicle: Vehicle
     rules: RuleSet
     design: DesignSpec
+    search: SearchSpace | None = None
 
     @property
     def storey_heights(self) -> tuple[float, ...]:
@@ -186,20 +207,48 @@ def _site(node: Node) -> Site:
     return Site(width, depth, margin)
 
 
-def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpec:
+def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[DesignSpec, SearchSpace]:
     node.require_mapping()
+    fixed = True
+    layouts_node = node.child("layouts", required=False)
     layout_node = node.child("layout", required=False)
-    layout = layout_node.text(LAYOUT_CHOICES) if layout_node else "single"
+    if layouts_node is not None:
+        if layout_node is not None:
+            raise node.error("got both 'layout' and 'layouts'; expected one of them")
+        layouts = tuple(item.text(SEARCH_LAYOUTS) for item in layouts_node.items())
+        if not layouts:
+            raise layouts_node.error(f"got an empty list; expected some of {', '.join(SEARCH_LAYOUTS)}")
+        fixed = False
+        layout = "single"
+        traffic_for_base = traffic
+    else:
+        layout = layout_node.text(LAYOUT_CHOICES) if layout_node else "single"
+        layouts = (f"single-{traffic}",) if layout == "single" else (layout,)
+        traffic_for_base = traffic
     if layout != "single" and traffic == "two-way":
         raise layout_node.error(  # type: ignore[union-attr]
             f"a {layout} helix carries one-way traffic on each thread; expected layout 'single' "
             "with traffic 'two-way', or traffic 'one-way'")
     rc_node = node.child("centre_radius")
-    rc = rc_node.length(positive=True)
+    if isinstance(rc_node.data, dict):
+        fixed = False
+        lo_node = rc_node.child("min")
+        hi_node = rc_node.child("max")
+        r_lo, r_hi = lo_node.length(positive=True), hi_node.length(positive=True)
+        rc_node.done()
+        if r_hi <= r_lo:
+            raise hi_node.error(f"got {hi_node.data!r}; expected a maximum above the minimum ({lo_node.data!r})")
+        rc = r_lo
+    else:
+        rc = rc_node.length(positive=True)
+        r_lo = r_hi = rc
 
     lw = node.child("lane_width", required=False)
-    n_lanes = 2 if traffic == "two-way" else 1
-    if lw is None:
+    n_lanes = 2 if traffic_for_base == "two-way" else 1
+    auto_width = lw is not None and lw.data == "auto"
+    if auto_width:
+        fixed = False
+    if lw is None or auto_width:
         default = rules.lane_width_one_way.value if rules.lane_width_one_way else 3.65
         if traffic == "two-way" and rules.lane_width_two_way:
             default = 0.5 * rules.lane_width_two_way.value
@@ -217,12 +266,22 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpe
     dv = node.child("divider", required=False)
     divider = dv.length(non_negative=True) if dv else 0.3
     carriageway = sum(widths) + (central if n_lanes > 1 else 0.0)
-    if rc <= carriageway:
+    if rc <= carriageway and not auto_width:
         raise rc_node.error(f"got {rc_node.data!r}; expected a centre-line radius larger than the "
                             f"carriageway width ({carriageway:.2f} m)")
 
     tps = node.child("turns_per_storey", required=False)
-    if tps is None:
+    choices = None
+    if tps is not None and isinstance(tps.data, dict):
+        fixed = False
+        ch = tps.child("choices")
+        choices = tuple(item.number(positive=True, what="a positive number of turns such as 1 or 0.75")
+                        for item in ch.items())
+        tps.done()
+        if not choices:
+            raise ch.error("got an empty list; expected turns per storey to choose from, e.g. [0.5, 1]")
+        turns = (choices[0],) * storeys
+    elif tps is None:
         turns = (0.5 if layout == "double" else 1.0,) * storeys
     elif isinstance(tps.data, list):
         turns = tuple(item.number(positive=True, what="a positive number of turns such as 1 or 0.75")
@@ -231,7 +290,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpe
             raise tps.error(f"got {len(turns)} values; expected one per storey ({storeys})")
     else:
         turns = (tps.number(positive=True, what="a positive number of turns such as 1 or 0.75"),) * storeys
-    for t in turns:
+    for t in (choices or ()) + turns:
         if t > 20:
             raise tps.error(f"got {t:g} turns per storey; expected at most 20")  # type: ignore[union-attr]
 
@@ -267,22 +326,44 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> DesignSpe
     keep_right = keep.text(("right", "left")) == "right" if keep else True
     cn = node.child("connections", required=False)
     connections = cn.text(CONNECTION_CHOICES) if cn else "free"
+    obj = node.child("objective", required=False)
+    objective = obj.text(OBJECTIVES) if obj else "footprint"
+    tg = node.child("target_gradient", required=False)
+    target = tg.gradient() if tg else None
+    if target is not None:
+        fixed = False
+    if choices is not None:
+        allowed = tuple(t for t in choices if _turns_fit(t, connections))
+        if not allowed:
+            raise tps.error(f"none of the turns {list(choices)} suit connections '{connections}'; expected "  # type: ignore[union-attr]
+                            f"{'whole turns' if connections == 'same_side' else 'a whole number and a half'}")
+        choices = allowed
+        turns = (choices[0],) * storeys
     for k, t in enumerate(turns):
-        frac = t % 1.0
-        bad = (connections == "same_side" and min(frac, 1 - frac) > 1e-6) or \
-              (connections == "alternate" and abs(frac - 0.5) > 1e-6)
-        if bad:
+        if not _turns_fit(t, connections):
             where = tps if tps is not None else cn
             raise where.error(  # type: ignore[union-attr]
                 f"got {t:g} turns for storey {k + 1}; connections '{connections}' expected "
                 f"{'a whole number of turns' if connections == 'same_side' else 'a whole number and a half'}")
     node.done()
+    search = SearchSpace(layouts=layouts, radius_min=r_lo, radius_max=r_hi, turns_choices=choices,
+                         lane_widths=None if auto_width else widths, target_gradient=target,
+                         objective=objective, fixed=fixed)
     return DesignSpec(layout=layout, centre_radius=rc, lane_widths=widths, turns_per_storey=turns,
                       central_kerb=central if n_lanes > 1 else 0.0, divider=divider, hand=hand,
                       start_bearing=start, landing_length=landing, transition_length=t_len,
                       transition_kind=t_kind, cross_fall=cross, cross_fall_inward=inward,
                       landing_fall=landing_fall, connections=connections, keep_right=keep_right,
-                      transition_auto=t_auto)
+                      transition_auto=t_auto), search
+
+
+def _turns_fit(turns: float, connections: str) -> bool:
+    frac = turns % 1.0
+    if connections == "same_side":
+        return min(frac, 1 - frac) <= 1e-6
+    if connections == "alternate":
+        return abs(frac - 0.5) <= 1e-6
+    return True
 
 
 def _pin_bearings(levels_node: Node, levels: tuple[Level, ...], design: DesignSpec) -> DesignSpec:
@@ -345,7 +426,7 @@ def load_project(path: str | Path) -> Project:
     vehicle_node = root.child("vehicle", required=False)
     vehicle = load_vehicle(vehicle_node if vehicle_node is not None else
                            Node(DEFAULT_VEHICLE, shown, "vehicle"), project_dir)
-    design = _design(root.child("design"), traffic, len(levels) - 1, rules)
+    design, search = _design(root.child("design"), traffic, len(levels) - 1, rules)
     design = _pin_bearings(root.child("levels"), levels, design)
     units_node = root.child("units", required=False)
     units = units_node.text(("metric", "imperial")) if units_node else ("imperial" if imperial else "metric")
@@ -356,4 +437,4 @@ def load_project(path: str | Path) -> Project:
                          f"({levels[-1].level:.3f} m)")
     return Project(name=name, notes=notes, file=shown, units=units, levels=levels,
                    structure=structure, site=site, traffic=traffic, vehicle=vehicle,
-                   rules=rules, design=design)
+                   rules=rules, design=design, search=search)

@@ -190,3 +190,102 @@ def check_table(ev: Evaluation) -> str:
     out.append("RESULT: all checks pass" if not fails else f"RESULT: {len(fails)} check(s) fail: {', '.join(fails)}")
     out.append("CAUTION: " + CAUTION)
     return "\n".join(out) + "\n"
+
+
+# ----------------------------------------------------------------------------------
+# The design search
+
+def option_dict(option) -> dict[str, Any]:
+    from .search import LAYOUT_TITLES
+    data = to_dict(option.evaluation) if option.evaluation is not None else {"ok": False}
+    d = option.evaluation.helix.overall_diameter if option.evaluation is not None else None
+    data.update({
+        "layout": option.layout,
+        "layout_title": LAYOUT_TITLES[option.layout],
+        "feasible": option.feasible,
+        "footprint_m": [_r(d), _r(d)] if d is not None else None,
+        "binding": option.binding,
+        "explanation": list(option.explanation),
+        "drive_time_top_to_bottom_s": _r(drive_time(option.evaluation), 1) if option.evaluation else None,
+    })
+    data["ok"] = bool(option.feasible and data.get("ok", False))
+    return data
+
+
+def drive_time(ev: Evaluation) -> float:
+    """Time to drive from the top level to the bottom on the centre line at the rule
+    set's design speed (15 km/h where it sets none)."""
+    rules = ev.project.rules
+    speed = rules.design_speed.value if rules.design_speed else 15 / 3.6
+    per_thread: dict[str, float] = {}
+    for s in ev.storeys:
+        per_thread[s.thread] = per_thread.get(s.thread, 0.0) + s.length_centre
+    return max(per_thread.values()) / speed
+
+
+def design_dict(result) -> dict[str, Any]:
+    return {
+        "project": result.project.name,
+        "objective": result.project.search.objective,
+        "options": [option_dict(o) for o in result.options],
+        "best": result.best,
+        "pareto": [{k: (_r(v) if isinstance(v, float) else v) for k, v in p.items()} for p in result.pareto],
+        "caution": CAUTION,
+    }
+
+
+def design_table(result) -> str:
+    """Ranked comparison of the layouts, with explanations of the infeasible ones."""
+    from .search import LAYOUT_TITLES
+    p = result.project
+    u = p.units
+    out = [p.name, f"rule set: {p.rules.title}", f"vehicle: {p.vehicle.title}",
+           f"objective: {p.search.objective}", ""]
+    rows = []
+    for rank, o in enumerate(result.options, 1):
+        ev = o.evaluation
+        if ev is None:
+            rows.append([str(rank), LAYOUT_TITLES[o.layout], "-", "-", "-", "-", "-", "-", "-", "-", "-", "-", "-",
+                         "FAIL", "no radius fits"])
+            continue
+        h = ev.helix
+        first = [s for s in ev.storeys if s.thread == h.threads[0].name]
+        turns = sorted({round(s.turns, 3) for s in first})
+        head = ev.headroom.clear if ev.headroom else None
+        fails = [c.id for c in ev.checks if not c.ok]
+        rows.append([
+            str(rank), LAYOUT_TITLES[o.layout], str(len(h.threads)), "/".join(f"{t:g}" for t in turns),
+            format_length(h.threads[0].centre_radius, u),
+            format_length(min(ln.width for t in h.threads for ln in t.lanes), u),
+            format_length(h.overall_diameter, u),
+            format_gradient(ev.max_gradient("inner kerb"), u), format_gradient(ev.max_gradient("centre line"), u),
+            format_gradient(ev.max_gradient("outer kerb"), u),
+            format_length(head, u) if head is not None else "-",
+            format_length(sum(s.length_centre for s in first) / len(first), u),
+            f"{drive_time(ev):.0f} s",
+            "pass" if o.feasible and ev.ok else "FAIL",
+            o.binding if o.feasible else ("fails " + ", ".join(fails) if fails else "infeasible"),
+        ])
+    out.append(_table(rows, ["#", "layout", "threads", "turns", "centre radius", "lane", "diameter",
+                             "grade inner", "grade centre", "grade outer", "headroom", "drive/storey",
+                             "top-bottom", "status", "binding constraint"]))
+    out.append("")
+    for o in result.options:
+        if o.feasible:
+            continue
+        out.append(f"{LAYOUT_TITLES[o.layout]} does not work:")
+        for item in o.explanation:
+            short = item.get("shortfall")
+            by = f" short by {short:g}" if isinstance(short, (int, float)) else ""
+            out.append(f"  - {item['constraint']}{by}: {item.get('change', '')}")
+        out.append("")
+    if result.best is None:
+        out.append("RESULT: no layout passes every check; see the changes above")
+    else:
+        best = result.options[result.best]
+        out.append(f"RESULT: best is {LAYOUT_TITLES[best.layout]} "
+                   f"(centre radius {format_length(best.evaluation.helix.threads[0].centre_radius, u)}, "
+                   f"binding: {best.binding})")
+    out.append(f"Pareto set (diameter, steepest inner gradient, drive per storey): {len(result.pareto)} designs")
+    out.append("CAUTION: " + CAUTION)
+    return "\n".join(out) + "\n"

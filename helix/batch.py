@@ -1,0 +1,189 @@
+"""Alignments and headroom for many candidate helices at once, as numpy arrays.
+
+The design search varies the centre-line radius (and the turns per storey) of one
+layout.  For a fixed number of storeys every candidate's alignment has the same
+sequence of segments (landing, transition, run, transition, landing, ...), only the
+plan angles differ, so all candidates fit in arrays of shape ``(candidates,
+breakpoints)``.  Segments a candidate does not need (no transition) simply have zero
+length.  The functions here are the batched counterparts of
+:func:`helix.alignment.build_profile` and :func:`helix.clearance.minimum_headroom`,
+and are tested against them.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+__all__ = ["BatchProfile", "build_profiles", "run_slopes", "batch_min_headroom"]
+
+TWO_PI = 2.0 * math.pi
+
+
+@dataclass(frozen=True, eq=False)
+class BatchProfile:
+    """Piecewise-quadratic levels of ``C`` alignments: rows of ``t`` (C, m+1), and
+    ``z0``, ``k``, ``q`` (C, m), as in :class:`helix.alignment.Profile`."""
+
+    t: np.ndarray
+    z0: np.ndarray
+    k: np.ndarray
+    q: np.ndarray
+
+    @property
+    def start(self) -> np.ndarray:
+        return self.t[:, 0]
+
+    @property
+    def end(self) -> np.ndarray:
+        return self.t[:, -1]
+
+    def _locate(self, theta: np.ndarray) -> np.ndarray:
+        """Segment index of every query, row by row, in one searchsorted call: rows
+        are separated by adding a large offset per row to both arrays."""
+        c, m1 = self.t.shape
+        span = float(np.nanmax(self.t) - np.nanmin(self.t)) + float(np.nanmax(np.abs(theta))) + 10.0
+        offset = (np.arange(c) * 4.0 * span)[:, None]
+        flat_t = (self.t + offset).ravel()
+        q = np.where(np.isfinite(theta), theta, self.t[:, :1]) + offset
+        j = np.searchsorted(flat_t, q.ravel(), side="right").reshape(theta.shape) - 1
+        j = j - (np.arange(c) * m1)[:, None]
+        return np.clip(j, 0, m1 - 2)
+
+    def level(self, theta: np.ndarray) -> np.ndarray:
+        """Levels at ``theta`` (C, P); NaN outside each row's alignment."""
+        j = self._locate(theta)
+        rows = np.arange(theta.shape[0])[:, None]
+        u = theta - self.t[rows, j]
+        z = self.z0[rows, j] + self.k[rows, j] * u + 0.5 * self.q[rows, j] * u * u
+        inside = (theta >= self.start[:, None] - 1e-12) & (theta <= self.end[:, None] + 1e-12)
+        return np.where(inside, z, np.nan)
+
+
+def run_slopes(rises: np.ndarray, plan: np.ndarray, landing: np.ndarray, transition: np.ndarray,
+               landing_slope: np.ndarray) -> np.ndarray:
+    """Run slope (m/rad) of every storey of every candidate; NaN where landings and
+    transitions leave no room.  Shapes: rises (n,), plan (C, n), landing (C,), transition
+    (C, n), landing_slope (C,).  Same formula as
+    :func:`helix.alignment.storey_run_slope`."""
+    free = plan - landing[:, None]  # half a landing at each end
+    ramp_rise = rises[None, :] - landing_slope[:, None] * landing[:, None]
+    k = (ramp_rise - landing_slope[:, None] * transition) / (free - transition)
+    ok = (free - 2 * transition >= -1e-9) & (free - transition > 1e-9)
+    return np.where(ok, k, np.nan)
+
+
+def build_profiles(levels: np.ndarray, plan: np.ndarray, landing: np.ndarray, transition: np.ndarray,
+                   kind: str = "segment", landing_slope: np.ndarray | None = None) -> tuple[BatchProfile, np.ndarray]:
+    """Alignments of ``C`` candidates serving the same ``levels``.
+
+    ``plan`` (C, n) storey plan angles, ``landing`` (C,) landing plan angle (the same at
+    every level), ``transition`` (C, n) transition plan angle per storey.  Returns the
+    profiles and the run slopes (C, n).  The first connection is at plan angle 0.
+    """
+    levels = np.asarray(levels, float)
+    c, n = plan.shape
+    kl = np.zeros(c) if landing_slope is None else np.asarray(landing_slope, float)
+    k = run_slopes(np.diff(levels), plan, landing, transition, kl)
+    m = 1 + 4 * n
+    t = np.empty((c, m + 1))
+    z0 = np.empty((c, m))
+    kk = np.empty((c, m))
+    qq = np.zeros((c, m))
+    conn = np.concatenate([np.zeros((c, 1)), np.cumsum(plan, axis=1)], axis=1)
+    half = 0.5 * landing
+    t[:, 0] = -half
+    z0[:, 0] = levels[0] - kl * half
+    kk[:, 0] = kl
+    for s in range(n):
+        j = 1 + 4 * s
+        a = conn[:, s] + half
+        b = conn[:, s + 1] - half
+        tau = transition[:, s]
+        ks = k[:, s]
+        z_a = levels[s] + kl * half
+        # Transition, run, transition, then the landing at level s+1 from b; the next
+        # storey's transition (or the end) closes that landing.
+        t[:, j], t[:, j + 1], t[:, j + 2], t[:, j + 3] = a, a + tau, b - tau, b
+        z0[:, j] = z_a
+        if kind == "curve":
+            kk[:, j] = kl
+            qq[:, j] = np.where(tau > 0, (ks - kl) / np.where(tau > 0, tau, 1.0), 0.0)
+        else:
+            kk[:, j] = 0.5 * (kl + ks)
+        z_run = z_a + 0.5 * (kl + ks) * tau
+        z0[:, j + 1] = z_run
+        kk[:, j + 1] = ks
+        z_end_run = z_run + ks * (b - a - 2 * tau)
+        z0[:, j + 2] = z_end_run
+        if kind == "curve":
+            kk[:, j + 2] = ks
+            qq[:, j + 2] = np.where(tau > 0, (kl - ks) / np.where(tau > 0, tau, 1.0), 0.0)
+        else:
+            kk[:, j + 2] = 0.5 * (kl + ks)
+        z0[:, j + 3] = levels[s + 1] - kl * half
+        kk[:, j + 3] = kl
+    t[:, m] = conn[:, n] + half
+    return BatchProfile(t=t, z0=z0, k=kk, q=qq), k
+
+
+def batch_min_headroom(profiles: list[BatchProfile], start_bearings: list[float], hand: int,
+                       same_annulus: bool, depth: float, cover_soffit: float | None = None) -> np.ndarray:
+    """Smallest clear headroom (C,) over the threads of every candidate.
+
+    ``profiles`` holds one :class:`BatchProfile` per thread (same candidates); when
+    ``same_annulus`` is false (a concentric pair) each thread only has its own turns
+    overhead.  Exact like :func:`helix.clearance.minimum_headroom`: every breakpoint of
+    every alignment involved, and the vertex of the gap on every piece between them.
+    ``inf`` where nothing is overhead.
+    """
+    c = profiles[0].t.shape[0]
+    best = np.full(c, np.inf)
+    for i, p in enumerate(profiles):
+        # The nearest surface overhead is the thread's own next turn (shift 2 pi) or a
+        # turn of another thread of the annulus less than a turn away in plan angle:
+        # anything further lies above or below one of those (threads do not cross).
+        overhead = [(p, TWO_PI)]
+        if same_annulus:
+            for j, u in enumerate(profiles):
+                if j == i:
+                    continue
+                base = hand * (start_bearings[i] - start_bearings[j])
+                for kk in range(-2, 3):
+                    shift = base + TWO_PI * kk
+                    if -TWO_PI - 1e-9 <= shift <= TWO_PI + 1e-9:
+                        overhead.append((u, shift))
+        # Critical angles on thread i: its breakpoints and every overhead one, shifted.
+        pts = [p.t] + [u.t - shift for u, shift in overhead]
+        grid = np.sort(np.concatenate(pts, axis=1), axis=1)
+        grid = np.clip(grid, p.start[:, None], p.end[:, None])
+        eps = 1e-9
+
+        def nearest_gap(theta):
+            z = p.level(theta)
+            g = np.full(theta.shape, np.inf)
+            for u, shift in overhead:
+                d = u.level(theta + shift) - z
+                g = np.where(np.isfinite(d) & (d > 1e-9) & (d < g), d, g)
+            clear = g - depth
+            if cover_soffit is not None:
+                clear = np.where(np.isfinite(z), np.minimum(clear, cover_soffit - z), clear)
+            return clear
+
+        queries = [grid, grid[:, 1:-1] - eps, grid[:, 1:-1] + eps]
+        if any(np.any(u.q != 0) for u, _ in overhead):
+            # Vertex of the (quadratic) gap on each piece, from its ends and midpoint.
+            a, b = grid[:, :-1] + eps, grid[:, 1:] - eps
+            mid = 0.5 * (grid[:, :-1] + grid[:, 1:])
+            w = a.shape[1]
+            g3 = nearest_gap(np.concatenate([a, mid, b], axis=1))
+            ga, gm, gb = g3[:, :w], g3[:, w:2 * w], g3[:, 2 * w:]
+            with np.errstate(invalid="ignore", divide="ignore"):
+                denom = ga - 2 * gm + gb
+                u_star = 0.5 * (ga - gb) / denom  # in half-widths from the midpoint
+            ok = np.isfinite(u_star) & (np.abs(u_star) < 1.0) & (denom > 1e-14) & (b > a)
+            queries.append(np.where(ok, mid + u_star * 0.5 * (b - a), mid))
+        val = nearest_gap(np.concatenate(queries, axis=1))
+        best = np.minimum(best, np.min(np.where(np.isfinite(val), val, np.inf), axis=1))
+    return best
