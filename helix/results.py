@@ -240,7 +240,9 @@ def design_table(result) -> str:
     p = result.project
     u = p.units
     out = [p.name, f"rule set: {p.rules.title}", f"vehicle: {p.vehicle.title}",
-           f"objective: {p.search.objective}", ""]
+           f"objective: {p.search.objective}; layouts {', '.join(p.search.layouts)}; radius "
+           f"{format_length(p.search.radius_min, u)} to {format_length(p.search.radius_max, u)}; turns per storey "
+           f"{', '.join(f'{t:g}' for t in p.search.turns_choices) if p.search.turns_choices else 'as fixed'}", ""]
     rows = []
     for rank, o in enumerate(result.options, 1):
         ev = o.evaluation

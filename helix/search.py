@@ -125,13 +125,20 @@ def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.nda
         need = np.empty_like(w)
         edge = inner.copy()
         for j in range(lanes):
-            need[:, j] = np.hypot(edge + clearance + v.width, v.wheelbase + v.front_overhang) + clearance - edge
+            need[:, j] = _swept_need(v, edge, clearance)
             edge = edge + w[:, j] + central
         new = np.maximum(rule_min, np.ceil(need * 100.0) / 100.0)  # whole centimetres
         if np.array_equal(new, w):
             break
         w = np.maximum(w, new)
     return w
+
+
+def _swept_need(v, lane_inner: np.ndarray, clearance: float) -> np.ndarray:
+    """Vectorised :func:`helix.turning.lane_width_needed`."""
+    from .turning import min_rear_axle_radius
+    rr = np.maximum(lane_inner + clearance + 0.5 * v.width, min_rear_axle_radius(v))
+    return np.hypot(rr + 0.5 * v.width, v.wheelbase + v.front_overhang) + clearance - lane_inner
 
 
 def _central_kerb(project: Project, family: Family) -> float:
@@ -254,8 +261,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
                 margins["target_gradient"], project.search.target_gradient - np.max(kmax / r_ref[:, None], axis=1))
         for a, b in lane_lines:
             lane_outer_min = np.minimum(lane_outer_min, b)
-            need = np.hypot(a + clearance + v.width, v.wheelbase + v.front_overhang) + clearance - a
-            swept = np.minimum(swept, (b - a) - need)
+            swept = np.minimum(swept, (b - a) - _swept_need(v, a, clearance))
             friction = np.maximum(friction, speed_kmh ** 2 / (127.0 * 0.5 * (a + b)) - e)
         conn_end = bp.t[:, 0] + 0.5 * land + plan.sum(axis=1)
         drive = np.maximum(drive, _batch_length(bp, rc, bp.t[:, 0] + 0.5 * land, conn_end) / n)
@@ -268,6 +274,8 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
     elif rules.lane_width_one_way is not None:
         margins["lane_width"] = widths.min(axis=1) - rules.lane_width_one_way.value
     margins["lane_width_swept"] = swept
+    # A carriageway wider than the radius allows has no inner kerb at all.
+    margins["geometry"] = np.where(inner_min > 0.05, inner_min, -np.inf)
     if rules.side_friction_max is not None:
         margins["side_friction"] = rules.side_friction_max.value - friction
     if rules.cross_fall_min is not None:
@@ -489,7 +497,7 @@ def _explain(project: Project, layout: str, fams: list[Family], grid: np.ndarray
     worst_i = int(np.argmin(badness(sc)))
     found: dict[str, dict] = {}
     for key in keys:
-        if np.all(sc.margins[key] >= -1e-9):
+        if key == "geometry" or np.all(sc.margins[key] >= -1e-9):
             continue
         grid_m = sce if key == "footprint" else sc
         rad = grid_m.radius
@@ -545,8 +553,9 @@ def _explain(project: Project, layout: str, fams: list[Family], grid: np.ndarray
     out = list(found.values())
     if layout.startswith("single") and "double" in feasible_layouts:
         out.append({"constraint": "layout", "change": "a second thread: a double helix of the same plot works"})
+    from .project import _turns_fit
     for t in (0.5, 0.75, 1.0, 1.25, 1.5, 2.0):  # turns per storey outside the choices
-        if any(abs(t - f.turns[0]) < 1e-9 for f in fams):
+        if any(abs(t - f.turns[0]) < 1e-9 for f in fams) or not _turns_fit(t, project.design.connections):
             continue
         trial = Family(layout, (t,) * project.storeys, fams[0].lane_widths)
         if np.any(screen(project, trial, grid).feasible()):
@@ -556,8 +565,26 @@ def _explain(project: Project, layout: str, fams: list[Family], grid: np.ndarray
     return tuple(out)
 
 
+def default_space(project: Project):
+    """The space ``helix design`` searches when the design section fixes everything:
+    every layout, radii from 3 m to what the footprint could hold, the usual turns per
+    storey allowed by the connections, lane widths from the rules and the vehicle."""
+    from .project import SEARCH_LAYOUTS
+    sp = project.search
+    choices = {"same_side": (1.0, 2.0), "alternate": (0.5, 1.5)}.get(
+        project.design.connections, (0.5, 0.75, 1.0, 1.25, 1.5))
+    r_max = max(0.5 * min(project.site.usable), 3.5)
+    return replace(sp, layouts=SEARCH_LAYOUTS, radius_min=3.0, radius_max=r_max, turns_choices=choices,
+                   lane_widths=None, fixed=False)
+
+
 def design(project: Project, grid_points: int = 64) -> DesignResult:
-    """Search every layout of the project's search space; rank and explain them."""
+    """Search every layout of the project's search space; rank and explain them.
+
+    A project whose design section is fully fixed is searched over
+    :func:`default_space`."""
+    if project.search.fixed:
+        project = replace(project, search=default_space(project))
     sp = project.search
     objective = sp.objective
     grid = _grid(project, grid_points)

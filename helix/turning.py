@@ -26,7 +26,7 @@ from scipy.integrate import solve_ivp
 
 from .vehicle import Vehicle
 
-__all__ = ["SweptBand", "steady_swept_band", "rear_radius_from_front", "lane_width_needed",
+__all__ = ["SweptBand", "steady_swept_band", "rear_radius_from_front", "lane_width_needed", "min_rear_axle_radius",
            "transient_swept_band", "side_friction", "speed_at_friction"]
 
 
@@ -59,15 +59,26 @@ def rear_radius_from_front(front_axle_radius: float, wheelbase: float) -> float:
     return math.sqrt(front_axle_radius ** 2 - wheelbase ** 2)
 
 
+def min_rear_axle_radius(vehicle: Vehicle) -> float:
+    """Tightest rear-axle radius the vehicle can steer: its minimum turning radius is
+    the path of the outer front wheel, taken at half the body width (as AASHTO's
+    design vehicles reproduce); 0 when the vehicle gives none."""
+    r = vehicle.min_turning_radius
+    if r is None or r <= vehicle.wheelbase:
+        return 0.0
+    return max(math.sqrt(r * r - vehicle.wheelbase ** 2) - 0.5 * vehicle.width, 0.0)
+
+
 def lane_width_needed(vehicle: Vehicle, lane_inner_radius: float, clearance: float) -> tuple[float, SweptBand]:
     """Smallest lane width that holds the steady-state swept band with ``clearance``
     to each kerb, for a lane whose inner kerb is at ``lane_inner_radius``.
 
     The narrowest band comes from hugging the inner kerb: the inner rear body side at
-    ``lane_inner_radius + clearance``; the lane must then reach the outer front corner
-    plus ``clearance``.
+    ``lane_inner_radius + clearance``, unless that is tighter than the vehicle can
+    steer (its minimum turning radius), in which case it runs on its tightest circle;
+    the lane must then reach the outer front corner plus ``clearance``.
     """
-    rr = lane_inner_radius + clearance + 0.5 * vehicle.width
+    rr = max(lane_inner_radius + clearance + 0.5 * vehicle.width, min_rear_axle_radius(vehicle))
     band = steady_swept_band(vehicle, rr)
     return band.outer_radius + clearance - lane_inner_radius, band
 

@@ -49,11 +49,26 @@ def test_analytic_smallest_radius_gradient_governs():
 
 def test_analytic_smallest_radius_outer_kerb_governs():
     # Source: IStructE 4th ed. (2011) tables 4.4 and 4.5: at a 2.6 m rise (1:10) the
-    # gradient needs only 4.14 m, so the 7.5 m outer kerb radius governs.
+    # gradient needs only 4.14 m, so the 9.0 m preferred minimum outer kerb radius
+    # governs (the passenger car's swept path needs less than that).
+    from helix.rules import Limit
+    p = _uniform(storey=2.6)
+    p = _space(replace(p, rules=replace(p.rules, outer_kerb_radius=Limit(9.0, "IStructE table 4.5"))))
+    opt = design(p).options[0]
+    assert opt.evaluation.helix.threads[0].outer_radius == pytest.approx(9.0, abs=1e-3)
+    assert opt.binding == "outer_kerb_radius"
+
+
+def test_vehicle_turning_circle_governs_a_tight_outer_kerb():
+    # From memory: AASHTO Green Book 2011, passenger car P minimum design turning
+    # radius 7.3 m (outer front wheel); verify.  With the 7.5 m outer kerb minimum the
+    # body's outer front corner on the car's tightest circle sweeps
+    # hypot(sqrt(7.3^2 - 3.4^2), 3.4 + 0.9) = 7.76 m, so the swept path governs.
     p = _space(_uniform(storey=2.6))
     opt = design(p).options[0]
-    assert opt.evaluation.helix.threads[0].outer_radius == pytest.approx(7.5, abs=1e-3)
-    assert opt.binding == "outer_kerb_radius"
+    corner = math.hypot(math.sqrt(7.3 ** 2 - 3.4 ** 2), 3.4 + 0.9)
+    assert opt.evaluation.helix.threads[0].outer_radius == pytest.approx(corner, abs=1e-3)
+    assert opt.binding == "lane_width_swept"
 
 
 def test_search_matches_an_exhaustive_grid_on_a_small_space():
@@ -84,10 +99,15 @@ def test_demo_story_single_does_not_fit_double_does():
     assert by["double"].feasible and not by["single-two-way"].feasible
     assert res.options[res.best].layout == "double"
     changes = {e["constraint"]: e for e in by["single-two-way"].explanation}
-    # The footprint the two-way helix needs, read back: 2 (Rc + W/2 + 0.6 + 0.25) + 2 x 0.3
-    # with Rc set by the 7.5 m outer kerb radius of its inner lane (3.5 + 0.5 + 3.5 m).
-    rc = 7.5 - 3.5 + 7.5 / 2
-    assert changes["footprint"]["value"] == pytest.approx(2 * (rc + 3.75 + 0.6 + 0.25) + 0.6, abs=2e-3)
+    # The footprint the two-way helix needs, worked by hand: its inner lane must hold the
+    # passenger car on its tightest circle (outer front corner at
+    # hypot(sqrt(7.3^2 - 3.4^2), 3.4 + 0.9) = 7.76 m, more than the 7.5 m outer kerb
+    # minimum), then the 0.5 m central kerb and a 3.5 m outer lane; plus 0.6 m clearance,
+    # the 0.25 m wall and the 0.3 m margin each side.  Lane widths are whole centimetres.
+    # From memory: AASHTO Green Book 2011, P minimum turning radius 7.3 m; verify.
+    corner = math.hypot(math.sqrt(7.3 ** 2 - 3.4 ** 2), 3.4 + 0.9)
+    expected = 2 * (corner + 0.5 + 3.5 + 0.6 + 0.25) + 0.6
+    assert changes["footprint"]["value"] == pytest.approx(expected, abs=0.021)
     assert "layout" in changes  # a second thread is offered
 
 
