@@ -38,6 +38,8 @@ def _parser() -> argparse.ArgumentParser:
     check.add_argument("-o", "--output", metavar="DIR",
                        help="also write the figures (PNG and SVG), setting_out.csv and result.json to DIR")
     check.add_argument("--json", action="store_true", help="print the result as JSON instead of a table")
+    check.add_argument("--rules", metavar="A,B,...", default=None,
+                       help="also check the design against these rule sets (one column each)")
     check.add_argument("--stations", metavar="LENGTH", default=None,
                        help="spacing of the setting-out stations written with -o (default 5 m, "
                             "or 10 ft for a project in feet)")
@@ -52,6 +54,8 @@ def _parser() -> argparse.ArgumentParser:
                           "Pareto figure to DIR")
     dsg.add_argument("--json", action="store_true", help="print the options as JSON instead of a table")
     dsg.add_argument("--stations", metavar="LENGTH", default=None, help="setting-out station spacing")
+    dsg.add_argument("--rules", metavar="A,B,...", default=None,
+                     help="also check the chosen design against these rule sets")
     return parser
 
 
@@ -59,27 +63,53 @@ _UMASK = os.umask(0)
 os.umask(_UMASK)
 
 
-def write_outputs(directory: Path, files: dict[str, bytes]) -> list[Path]:
-    """Write ``files`` into ``directory`` atomically, one file at a time.
+MANIFEST = ".helix-outputs"
 
-    Each file goes to a temporary name in the same folder and is renamed into place,
-    so a reader never sees half a file; files helix did not produce are untouched.
+
+def write_outputs(directory: Path, files: dict[str, bytes]) -> list[Path]:
+    """Write ``files`` into ``directory`` safely.
+
+    Every file goes to a temporary name in the same folder and is renamed into place
+    only when all of them are written, so a reader never sees half a file and a failed
+    run leaves the previous outputs as they were.  A file of the same name that helix did not
+    write (it is not in the folder's manifest) is never overwritten: the run stops with
+    an input error before writing anything.
     """
-    directory.mkdir(parents=True, exist_ok=True)
-    written = []
-    for name, data in files.items():
-        target = directory / name
-        fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=directory)
-        try:
+    if directory.exists() and not directory.is_dir():
+        raise InputError("command line", "-o", f"{directory} is a file; expected a folder")
+    manifest = directory / MANIFEST
+    ours: set[str] = set()
+    if manifest.is_file():
+        ours = set(manifest.read_text(encoding="utf-8").split())
+    clash = sorted(n for n in files if (directory / n).exists() and n not in ours)
+    if clash:
+        raise InputError("command line", "-o", f"{directory / clash[0]} exists and was not written by helix; "
+                         "expected a new folder or one helix wrote before")
+    try:
+        directory.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError("command line", "-o", f"cannot create {directory} ({exc.strerror})") from None
+    files = dict(files)
+    files[MANIFEST] = ("\n".join(sorted(ours | set(files))) + "\n").encode()
+    # Two phases: every file to a temporary name first, then the renames; a failure in
+    # the first phase removes the temporaries and leaves the previous outputs intact.
+    temps: list[tuple[str, str]] = []
+    try:
+        for name, data in files.items():
+            fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=directory)
+            temps.append((tmp, name))
             with os.fdopen(fd, "wb") as fh:
                 fh.write(data)
             os.chmod(tmp, 0o666 & ~_UMASK)
-            os.replace(tmp, target)
-        except BaseException:
+    except BaseException:
+        for tmp, _ in temps:
             if os.path.exists(tmp):
                 os.unlink(tmp)
-            raise
-        written.append(target)
+        raise
+    written = []
+    for tmp, name in temps:
+        os.replace(tmp, directory / name)
+        written.append(directory / name)
     return written
 
 
@@ -99,7 +129,7 @@ def _station_spacing(text: str | None, units: str) -> float:
 def _check(args) -> int:
     from .evaluate import evaluate
     from .project import load_project
-    from .results import check_table, to_dict, to_json
+    from .results import check_table, to_json
 
     project = load_project(args.project)
     if project.search is not None and not project.search.fixed:
@@ -110,27 +140,72 @@ def _check(args) -> int:
     except ValueError as exc:  # geometry that cannot be built, e.g. landings too long
         raise InputError(project.file, "design", f"{exc}; expected a design whose landings and "
                          "transitions fit within each storey") from None
-    data = to_dict(result)
-    text = to_json(data)
+    comparisons = _comparisons(project, result.helix, args.rules)
+    text = to_json(_result_data(result, comparisons))
     if args.output:
-        files = _check_outputs(result, project, args.stations)  # all in memory: a failure writes nothing
+        # Everything is made in memory first: a failure half-way writes nothing.
+        files = _check_outputs(result, project, args.stations, comparisons)
         write_outputs(Path(args.output), files)
     if args.json:
         sys.stdout.write(text)
     else:
         sys.stdout.write(check_table(result))
+        for e in comparisons:
+            fails = [c.id for c in e.checks if not c.ok]
+            sys.stdout.write(f"rule set {e.project.rules.name}: "
+                             f"{'all checks pass' if not fails else 'FAIL ' + ', '.join(fails)}\n")
         if args.output:
             sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
-    return 0 if result.ok else 1
+    return 0 if result.ok and all(e.ok for e in comparisons) else 1
 
 
-def _check_outputs(result, project, stations) -> dict[str, bytes]:
+def _comparisons(project, helix_, names: str | None):
+    """The same helix checked against each further rule set named in ``--rules``."""
+    if not names:
+        return []
+    from dataclasses import replace
+
+    from .evaluate import evaluate
+    from .rules import load_rule_set
+    out = []
+    for name in [n.strip() for n in names.split(",") if n.strip()]:
+        if name == project.rules.name:
+            continue
+        rules = load_rule_set(name, Path(project.file).resolve().parent, file="command line", path="--rules")
+        out.append(evaluate(replace(project, rules=rules), helix_))
+    return out
+
+
+def _result_data(result, comparisons) -> dict:
+    from .results import check_dict, to_dict
+    data = to_dict(result)
+    if comparisons:
+        data["rules_comparison"] = [
+            {"rules": e.project.rules.name, "title": e.project.rules.title, "ok": e.ok,
+             "checks": [check_dict(c) for c in e.checks]} for e in [result] + comparisons]
+    return data
+
+
+def _check_outputs(result, project, stations, comparisons=(), option=None, search=None) -> dict[str, bytes]:
+    from .cad import dxf_available, plan_dxf
     from .figures import render_all
-    from .results import to_dict, to_json
+    from .report import report_files
+    from .results import to_json
     from .setting_out import setting_out_csv
-    files = render_all(result)
-    files["setting_out.csv"] = setting_out_csv(result, _station_spacing(stations, project.units)).encode()
-    files["result.json"] = to_json(to_dict(result)).encode()
+    import matplotlib.pyplot as plt
+    spacing = _station_spacing(stations, project.units)
+    figs: dict = {}
+    try:
+        files = render_all(result, keep=figs)  # drawn once: PNG, SVG and the PDF pages
+        files["setting_out.csv"] = setting_out_csv(result, spacing).encode()
+        files["result.json"] = to_json(_result_data(result, list(comparisons))).encode()
+        files.update(report_files(result, option=option, result=search, comparisons=list(comparisons),
+                                  spacing=spacing, figures=figs))
+    finally:
+        for fig in figs.values():
+            plt.close(fig)
+    if dxf_available():
+        files["plan.dxf"] = plan_dxf(result)
     return files
 
 
@@ -150,7 +225,10 @@ def _design(args) -> int:
         from .figures import pareto_figure, figure_bytes
         files: dict[str, bytes] = {}
         if result.best is not None:
-            files.update(_check_outputs(result.options[result.best].evaluation, project, args.stations))
+            best = result.options[result.best]
+            comparisons = _comparisons(best.evaluation.project, best.evaluation.helix, args.rules)
+            files.update(_check_outputs(best.evaluation, best.evaluation.project, args.stations, comparisons,
+                                        option=best, search=result))
         files.update(figure_bytes("pareto", pareto_figure(result)))
         files["design.json"] = text.encode()
         write_outputs(Path(args.output), files)

@@ -22,7 +22,7 @@ from .evaluate import Evaluation  # noqa: E402
 from .units import FOOT, format_length, format_level  # noqa: E402
 
 __all__ = ["plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "pareto_figure",
-           "figure_bytes", "render_all",
+           "gradient_figure", "figure_bytes", "FIGURES", "render_all",
            "STYLE", "PALETTE"]
 
 # Okabe-Ito colours, each with a role that stays the same in every figure.
@@ -337,7 +337,7 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None):
             # Outer wall and central core.
             wall = p.structure.wall_thickness
             if wall > 0:
-                ax.add_patch(Rectangle((s(side * (R - wall) if side > 0 else -s(R)), s(zmin)), s(wall),
+                ax.add_patch(Rectangle((s(R - wall) if side > 0 else -s(R), s(zmin)), s(wall),
                                        s(zmax - zmin), fc="#BDBDBD", ec=PALETTE["structure"], lw=0.6,
                                        hatch="xx", zorder=1))
             for i, t in enumerate(h.threads):
@@ -412,7 +412,7 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None):
                  f"Slab {format_length(st.slab_depth, p.units)}, hanging "
                  f"{format_length(st.hanging_depth, p.units)}",
                  "Levels at the centre line of each turn", "No vertical exaggeration"]
-        fig.text(0.815, 0.62, "\n".join(lines), fontsize=8, va="top")
+        fig.text(0.815, 0.50, "\n".join(lines), fontsize=8, va="top")
     return fig
 
 
@@ -527,10 +527,62 @@ def clearance_figure(ev: Evaluation):
     return fig
 
 
+def gradient_figure(ev: Evaluation):
+    """Gradient against radius across the carriageway for the steepest storey of each
+    thread, with the rule set's limits on their reference lines and the wheel paths."""
+    from .checks import reference_radii, storey_max_slope
+    from .evaluate import wheel_paths
+    p, h = ev.project, ev.helix
+    s = _Scale(p.units)
+    with plt.rc_context(STYLE):
+        fig, ax = plt.subplots(figsize=A4_LANDSCAPE)
+        fig.subplots_adjust(left=0.08, right=0.74, top=0.88, bottom=0.09)
+        _title(fig, ev, "gradient across the carriageway")
+        rises = p.storey_heights
+        top = 0.0
+        for i, t in enumerate(h.threads):
+            col = THREAD_COLOURS[i % 4]
+            slopes = [storey_max_slope(t, k) for k in range(len(rises))]
+            k = int(np.argmax(slopes))
+            r = np.linspace(t.inner_radius, t.outer_radius, 200)
+            g = 100 * slopes[k] / r
+            top = max(top, float(g.max()))
+            ax.plot(s(r), g, color=col, lw=2.0, label=f"{t.name}: {p.levels[t.levels[k]].name} to "
+                                                       f"{p.levels[t.levels[k + 1]].name} (steepest storey)")
+            for name, rw in wheel_paths(p, t).items():
+                ax.plot([s(rw)], [100 * slopes[k] / rw], "o", color=col, ms=5)
+                ax.annotate(name, (float(s(rw)), 100 * slopes[k] / rw), (4, 4), textcoords="offset points",
+                            fontsize=7, color=col)
+            for lim in p.rules.gradient:
+                gl = 100 * lim.max_for_rise(rises[k])
+                for name, rr in reference_radii(t, lim):
+                    ax.plot([s(rr)], [gl], marker="v", color=PALETTE["critical"], ms=9, ls="none")
+                    ax.axvline(float(s(rr)), color=PALETTE["critical"], lw=0.7, ls=":")
+                    ax.annotate(f"limit {gl:.2f} % on the {name}", (float(s(rr)), gl), (5, 5),
+                                textcoords="offset points", fontsize=7.5, color=PALETTE["critical"])
+                top = max(top, gl)
+            ax.axvspan(float(s(t.inner_radius)), float(s(t.outer_radius)), color=PALETTE["fill"], alpha=0.35, lw=0)
+        ax.set_ylim(0, top * 1.2)
+        ax.set_xlabel(f"radius from the helix axis ({s.name})")
+        ax.set_ylabel("gradient along the circle (%)")
+        ax.grid(True, lw=0.3, color="#DDDDDD")
+        from matplotlib.lines import Line2D
+        handles, _ = ax.get_legend_handles_labels()
+        handles += [Line2D([], [], marker="o", color="#444444", ls="none", label="wheel paths of the design vehicle"),
+                    Line2D([], [], marker="v", color=PALETTE["critical"], ls="none",
+                           label="rule limit on its reference line")]
+        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0)
+        fig.text(0.755, 0.45, "On a helicoid every radial line is level,\nso the gradient at radius r is "
+                 "z'(theta) / r:\nsteeper at the inner kerb, flatter outside.", fontsize=8, va="top")
+    return fig
+
+
 def _save(fig, fmt: str) -> bytes:
     buf = io.BytesIO()
-    meta = {"Date": None} if fmt == "svg" else ({"Software": None} if fmt == "png" else {})
-    fig.savefig(buf, format=fmt, dpi=300 if fmt == "png" else 72, metadata=meta)
+    meta = {"Date": None} if fmt == "svg" else ({"Software": None} if fmt == "png" else
+                                                 {"CreationDate": None, "ModDate": None})
+    extra = {"pil_kwargs": {"compress_level": 4}} if fmt == "png" else {}
+    fig.savefig(buf, format=fmt, dpi=300 if fmt == "png" else 72, metadata=meta, **extra)
     return buf.getvalue()
 
 
@@ -543,12 +595,31 @@ def figure_bytes(name: str, fig) -> dict[str, bytes]:
         plt.close(fig)
 
 
-def render_all(ev: Evaluation) -> dict[str, bytes]:
-    """Every figure of one design as PNG (300 dpi) and SVG, keyed by file name."""
+#: Figures of one design, in report order: file stem, maker, caption.
+FIGURES = (
+    ("plan", plan_figure, "Plan"),
+    ("section", section_figure, "Unrolled section along the centre line"),
+    ("cross_section", cross_section_figure, "Radial cross-section"),
+    ("clearance", clearance_figure, "Design vehicle clearances"),
+    ("gradient", gradient_figure, "Gradient across the carriageway"),
+)
+
+
+def render_all(ev: Evaluation, keep: dict | None = None) -> dict[str, bytes]:
+    """Every figure of one design as PNG (300 dpi) and SVG, keyed by file name.
+
+    With ``keep`` (a dict), the figures stay open in it by name, for the PDF report to
+    use without drawing them again; the caller closes them."""
     out: dict[str, bytes] = {}
-    for name, make in (("plan", plan_figure), ("section", section_figure),
-                       ("cross_section", cross_section_figure), ("clearance", clearance_figure)):
-        out.update(figure_bytes(name, make(ev)))
+    for name, make, _ in FIGURES:
+        fig = make(ev)
+        if keep is None:
+            out.update(figure_bytes(name, fig))
+            continue
+        with plt.rc_context(STYLE):
+            out[f"{name}.png"] = _save(fig, "png")
+            out[f"{name}.svg"] = _save(fig, "svg")
+        keep[name] = fig
     return out
 
 

@@ -13,6 +13,7 @@ import math
 import numpy as np
 
 from .evaluate import Evaluation
+from .units import FOOT, format_level
 
 __all__ = ["stations", "setting_out_csv", "COLUMNS"]
 
@@ -41,10 +42,10 @@ def stations(ev: Evaluation, spacing: float) -> list[dict]:
         for n in range(len(theta)):
             rows.append({
                 "thread": t.name, "station": n,
-                "chainage_m": round(float(t.chainage(theta[n])), 3),
+                "chainage_m": round(float(t.chainage(theta[n])), 4),
                 "plan_angle_deg": round(math.degrees(theta[n]), 3),
                 "bearing_deg": round(math.degrees(float(t.bearing(theta[n]))) % 360.0, 3),
-                "x_m": round(float(x[n]), 3), "y_m": round(float(y[n]), 3),
+                "x_m": round(float(x[n]), 4), "y_m": round(float(y[n]), 4),
                 "level_inner_kerb_m": round(float(z_in[n]), 4), "level_centre_m": round(float(z_c[n]), 4),
                 "level_outer_kerb_m": round(float(z_out[n]), 4),
                 "grade_centre_pct": round(100 * float(grade[n]), 3),
@@ -54,9 +55,27 @@ def stations(ev: Evaluation, spacing: float) -> list[dict]:
     return rows
 
 
+def _imperial(row: dict) -> dict:
+    """The same station in feet (decimal, for CAD) with ft-in levels beside them."""
+    out = {}
+    for key, value in row.items():
+        if key.endswith("_m"):
+            out[key[:-2] + "_ft"] = round(value / FOOT, 3)
+            if key.startswith("level_"):
+                out[key[:-2] + "_ftin"] = format_level(value, "imperial")
+        else:
+            out[key] = value
+    return out
+
+
 def setting_out_csv(ev: Evaluation, spacing: float) -> str:
+    """The table as CSV: metres for a metric project, feet (and ft-in levels) for one
+    written in feet and inches."""
+    rows = stations(ev, spacing)
+    if ev.project.units == "imperial":
+        rows = [_imperial(r) for r in rows]
     buf = io.StringIO()
-    writer = csv.DictWriter(buf, fieldnames=COLUMNS, lineterminator="\n")
+    writer = csv.DictWriter(buf, fieldnames=list(rows[0]) if rows else list(COLUMNS), lineterminator="\n")
     writer.writeheader()
-    writer.writerows(stations(ev, spacing))
+    writer.writerows(rows)
     return buf.getvalue()
