@@ -40,6 +40,31 @@ def _kerb_points(thread, radius: float, spacing: float = 0.25) -> np.ndarray:
     return np.unique(np.concatenate([np.linspace(p.start, p.end, n + 1), p.t]))
 
 
+def _sorted_classes(text: str) -> str:
+    """The CLASSES section with its entries in name order.
+
+    ezdxf registers some classes in an order that follows Python's string hashing, so
+    it differs from one process to the next; the order of CLASS entries carries no
+    meaning in a file without proxy entities, so sorting them makes the bytes repeat.
+    """
+    lines = text.split("\n")
+    try:
+        start = next(i for i in range(0, len(lines) - 3, 2)
+                     if lines[i].strip() == "0" and lines[i + 1] == "SECTION" and lines[i + 3] == "CLASSES")
+    except StopIteration:
+        return text
+    body_start = start + 4
+    end = next(i for i in range(body_start, len(lines) - 1, 2)
+               if lines[i].strip() == "0" and lines[i + 1] == "ENDSEC")
+    entries: list[list[str]] = []
+    for i in range(body_start, end, 2):
+        if lines[i].strip() == "0" and lines[i + 1] == "CLASS":
+            entries.append([])
+        entries[-1] += lines[i:i + 2]
+    entries.sort(key=lambda e: (e[3], e[5]))  # DXF name (code 1), C++ class name (code 2)
+    return "\n".join(lines[:body_start] + [x for e in entries for x in e] + lines[end:])
+
+
 def plan_dxf(ev: Evaluation) -> bytes:
     """The plan as DXF (R2010) bytes."""
     import ezdxf
@@ -100,6 +125,6 @@ def plan_dxf(ev: Evaluation) -> bytes:
                      height=0.35, dxfattribs={"layer": "TEXT"}).set_placement((0.0, -1.0))
         stream = io.StringIO()
         doc.write(stream)
-        return stream.getvalue().encode("utf-8")
+        return _sorted_classes(stream.getvalue()).encode("utf-8")
     finally:
         ezdxf.options.write_fixed_meta_data_for_testing = old

@@ -36,22 +36,25 @@ class HeadroomPoint:
 
 def overhead_shifts(helix: Helix, i: int) -> list[tuple[int, float]]:
     """``(j, shift)`` pairs: thread ``j`` at ``theta + shift`` lies over thread ``i`` at
-    ``theta`` in plan (same bearing), for every turn that can overlap in range."""
+    ``theta`` in plan (same bearing) and may be the nearest surface above it.
+
+    That is the thread's own next turn (``shift = 2 pi``) and every turn of another
+    thread less than a full turn away in plan angle: threads on one axis do not cross,
+    so any other turn lies above or below one of these.
+    """
     t = helix.threads[i]
-    pairs = []
+    pairs = [(i, TWO_PI)]
     for j, u in enumerate(helix.threads):
         if u.hand != t.hand:
             raise ValueError("threads on one axis must ascend the same way round")
+        if j == i:
+            continue
         base = t.hand * (t.start_bearing - u.start_bearing)
-        lo = math.floor((u.profile.start - t.profile.end - base) / TWO_PI) - 1
-        hi = math.ceil((u.profile.end - t.profile.start - base) / TWO_PI) + 1
-        for k in range(lo, hi + 1):
+        for k in range(-2, 3):
             shift = base + TWO_PI * k
-            if j == i and abs(shift) < 1e-9:
-                continue
-            if u.profile.start - shift > t.profile.end or u.profile.end - shift < t.profile.start:
-                continue
-            pairs.append((j, shift))
+            if -TWO_PI - 1e-9 <= shift <= TWO_PI + 1e-9 and not (
+                    u.profile.start - shift > t.profile.end or u.profile.end - shift < t.profile.start):
+                pairs.append((j, shift))
     return pairs
 
 

@@ -188,20 +188,27 @@ def _result_data(result, comparisons) -> dict:
 
 def _check_outputs(result, project, stations, comparisons=(), option=None, search=None) -> dict[str, bytes]:
     from .cad import dxf_available, plan_dxf
-    from .figures import render_all
+    from .figures import start_render
     from .report import report_files
     from .results import to_json
     from .setting_out import setting_out_csv
     import matplotlib.pyplot as plt
     spacing = _station_spacing(stations, project.units)
     figs: dict = {}
+    job = None
     try:
-        files = render_all(result, keep=figs)  # drawn once: PNG, SVG and the PDF pages
+        # Each figure is drawn once; its PNG is rasterised in a second process while
+        # this one writes the SVGs, the tables and the PDF.
+        files, job = start_render(result, figs)
         files["setting_out.csv"] = setting_out_csv(result, spacing).encode()
         files["result.json"] = to_json(_result_data(result, list(comparisons))).encode()
         files.update(report_files(result, option=option, result=search, comparisons=list(comparisons),
                                   spacing=spacing, figures=figs))
+        files.update(job.result())
+        job = None
     finally:
+        if job is not None:
+            job.result()  # reap the child even when this run fails
         for fig in figs.values():
             plt.close(fig)
     if dxf_available():

@@ -22,7 +22,7 @@ from .evaluate import Evaluation  # noqa: E402
 from .units import FOOT, format_length, format_level  # noqa: E402
 
 __all__ = ["plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "pareto_figure",
-           "gradient_figure", "figure_bytes", "FIGURES", "render_all",
+           "gradient_figure", "figure_bytes", "FIGURES", "start_render", "PngJob", "render_all",
            "STYLE", "PALETTE"]
 
 # Okabe-Ito colours, each with a role that stays the same in every figure.
@@ -581,7 +581,7 @@ def _save(fig, fmt: str) -> bytes:
     buf = io.BytesIO()
     meta = {"Date": None} if fmt == "svg" else ({"Software": None} if fmt == "png" else
                                                  {"CreationDate": None, "ModDate": None})
-    extra = {"pil_kwargs": {"compress_level": 4}} if fmt == "png" else {}
+    extra = {"pil_kwargs": {"compress_level": 1}} if fmt == "png" else {}
     fig.savefig(buf, format=fmt, dpi=300 if fmt == "png" else 72, metadata=meta, **extra)
     return buf.getvalue()
 
@@ -610,17 +610,83 @@ def render_all(ev: Evaluation, keep: dict | None = None) -> dict[str, bytes]:
 
     With ``keep`` (a dict), the figures stay open in it by name, for the PDF report to
     use without drawing them again; the caller closes them."""
-    out: dict[str, bytes] = {}
-    for name, make, _ in FIGURES:
-        fig = make(ev)
-        if keep is None:
-            out.update(figure_bytes(name, fig))
-            continue
-        with plt.rc_context(STYLE):
-            out[f"{name}.png"] = _save(fig, "png")
-            out[f"{name}.svg"] = _save(fig, "svg")
-        keep[name] = fig
+    if keep is None:
+        out: dict[str, bytes] = {}
+        for name, make, _ in FIGURES:
+            out.update(figure_bytes(name, make(ev)))
+        return out
+    out, job = start_render(ev, keep)
+    out.update(job.result())
     return out
+
+
+def start_render(ev: Evaluation, keep: dict) -> tuple[dict[str, bytes], "PngJob"]:
+    """Draw every figure into ``keep``, return their SVGs and a running :class:`PngJob`
+    for the PNGs: the caller works on (the PDF, say) and then collects them."""
+    svg: dict[str, bytes] = {}
+    for name, make, _ in FIGURES:
+        keep[name] = make(ev)
+    job = PngJob(keep)
+    with plt.rc_context(STYLE):
+        for name in keep:
+            svg[f"{name}.svg"] = _save(keep[name], "svg")
+    return svg, job
+
+
+class PngJob:
+    """Rasterise figures to 300-dpi PNG in a forked child process while the parent goes
+    on (SVG, PDF): the rasterising is the slowest part of a report, and a second core
+    halves the wall time.  Where fork is not available, or the child fails, the PNGs
+    are made here instead.  Call :meth:`result` once."""
+
+    def __init__(self, figs: dict):
+        import os
+        self.figs = dict(figs)
+        self.pid = None
+        self.read_fd = None
+        if not hasattr(os, "fork"):
+            return
+        try:
+            r, w = os.pipe()
+            pid = os.fork()
+        except OSError:
+            return
+        if pid == 0:  # child: render, send, exit without running the parent's cleanup
+            code = 1
+            try:
+                import pickle
+                os.close(r)
+                with plt.rc_context(STYLE):
+                    data = pickle.dumps({f"{n}.png": _save(f, "png") for n, f in self.figs.items()})
+                view = memoryview(data)
+                while view:
+                    view = view[os.write(w, view):]
+                code = 0
+            finally:
+                os._exit(code)
+        os.close(w)
+        self.pid, self.read_fd = pid, r
+
+    def result(self) -> dict[str, bytes]:
+        import os
+        import pickle
+        if self.pid is not None:
+            chunks = []
+            while True:
+                chunk = os.read(self.read_fd, 1 << 20)
+                if not chunk:
+                    break
+                chunks.append(chunk)
+            os.close(self.read_fd)
+            _, status = os.waitpid(self.pid, 0)
+            self.pid = None
+            if os.WIFEXITED(status) and os.WEXITSTATUS(status) == 0:
+                try:
+                    return pickle.loads(b"".join(chunks))
+                except Exception:  # a broken stream: make them here instead
+                    pass
+        with plt.rc_context(STYLE):
+            return {f"{n}.png": _save(f, "png") for n, f in self.figs.items()}
 
 
 def pareto_figure(result):

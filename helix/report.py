@@ -19,7 +19,7 @@ from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
 
 from .evaluate import Evaluation  # noqa: E402
 from .figures import A4_LANDSCAPE, FIGURES, PALETTE, STYLE  # noqa: E402
-from .results import CAUTION, drive_time  # noqa: E402
+from .results import CAUTION, drive_time, format_shortfall  # noqa: E402
 from .setting_out import stations  # noqa: E402
 from .units import format_gradient, format_length, format_level  # noqa: E402
 
@@ -105,14 +105,7 @@ def _inputs(ev: Evaluation) -> list[tuple[str, object]]:
                                f"{format_length(site.margin, u)}"]]
     v = p.vehicle
     vehicle = [[k.replace("_", " "), format_length(x, u), v.sources.get(k, "")] for k, x in v.dimensions().items()]
-    rules = []
-    for key, value, source in p.rules.summary():
-        if u == "imperial" and value.endswith(" m"):
-            try:
-                value = format_length(float(value[:-2]), u)
-            except ValueError:
-                pass
-        rules.append([key.replace("_", " "), value, source])
+    rules = [[key.replace("_", " "), value, source] for key, value, source in p.rules.summary(u)]
     return [("h1", "Inputs"),
             ("h2", "Levels"), ("table", (["level", "finished floor level", "storey height"], levels, [0.3, 0.35, 0.35])),
             ("h2", "Structure and site"), ("table", (["item", "value"], structure, [0.3, 0.7])),
@@ -141,7 +134,7 @@ def _comparison(result) -> list[tuple[str, object]]:
                    rows, [0.04, 0.22, 0.11, 0.1, 0.12, 0.1, 0.07, 0.24]))]
     for o in result.options:
         if not o.feasible:
-            items = [[e["constraint"], str(e.get("shortfall", "")), e.get("change", "")] for e in o.explanation]
+            items = [[e["constraint"], format_shortfall(e, u), e.get("change", "")] for e in o.explanation]
             blocks += [("h2", f"Why the {LAYOUT_TITLES[o.layout]} does not work"),
                        ("table", (["constraint", "shortfall", "smallest single change"], items, [0.2, 0.1, 0.7]))]
     return blocks
@@ -267,30 +260,55 @@ class _Pages:
         self.y -= h + 0.01
 
     def table(self, header, rows, widths, size=7.5):
+        """Rows flow down the page; each column of each page is one text object (rows
+        padded to a common number of lines), which keeps the PDF light and quick."""
         chars = [max(int(w * 175 * 7.5 / size), 4) for w in widths]
         x = [0.04 + 0.92 * sum(widths[:i]) for i in range(len(widths))]
-
-        def draw_row(cells, bold=False, shade=False):
-            wrapped = [textwrap.wrap(str(c), n) or [""] for c, n in zip(cells, chars)]
-            lines = max(len(w) for w in wrapped)
-            h = 0.0165 * lines * size / 7.5 + 0.004
-            self.need(h)
-            if shade:
-                self.fig.patches.append(matplotlib.patches.Rectangle(
-                    (0.04, self.y - h + 0.002), 0.92, h, transform=self.fig.transFigure, fc="#EEF3F8", ec="none"))
-            for xi, w in zip(x, wrapped):
-                self.fig.text(xi + 0.002, self.y, "\n".join(w), fontsize=size, va="top",
-                              weight="bold" if bold else "normal", linespacing=1.25)
-            self.y -= h
-            return h
-
+        line_h = 0.0165 * size / 7.5
+        wrap = lambda cells: [textwrap.wrap(str(c), n) or [""] for c, n in zip(cells, chars)]
+        head = wrap(header)
         self.need(0.05)
-        draw_row(header, bold=True, shade=True)
-        for k, r in enumerate(rows):
-            if self.y < 0.08:
+        block: list[tuple[list[list[str]], bool]] = []
+
+        def flush():
+            if not block:
+                return
+            y = self.y
+            for k, (cells, bold) in enumerate(block):  # header and every other row shaded
+                n = max(len(c) for c in cells)
+                if k % 2 == 1 or bold:
+                    self.fig.patches.append(matplotlib.patches.Rectangle(
+                        (0.04, y - n * line_h - 0.002), 0.92, n * line_h + 0.002,
+                        transform=self.fig.transFigure, fc="#EEF3F8", ec="none"))
+                y -= n * line_h
+            for part, weight in ((block[:1], "bold"), (block[1:], "normal")):
+                if not part:
+                    continue
+                top = self.y if weight == "bold" else self.y - max(len(c) for c in block[0][0]) * line_h
+                columns = [[] for _ in widths]
+                for cells, _ in part:
+                    n = max(len(c) for c in cells)
+                    for col, c in zip(columns, cells):
+                        col.extend(c + [""] * (n - len(c)))
+                for xi, col in zip(x, columns):
+                    self.fig.text(xi + 0.002, top, "\n".join(col), fontsize=size, va="top", weight=weight,
+                                  linespacing=1.25)
+            self.y = y
+            block.clear()
+
+        block.append((head, True))
+        used = max(len(c) for c in head) * line_h
+        for r in rows:
+            cells = wrap(r)
+            h = max(len(c) for c in cells) * line_h
+            if self.y - used - h < 0.07:
+                flush()
                 self.new()
-                draw_row(header, bold=True, shade=True)
-            draw_row(r, shade=k % 2 == 1)
+                block.append((head, True))
+                used = max(len(c) for c in head) * line_h
+            block.append((cells, False))
+            used += h
+        flush()
         self.y -= 0.012
 
 

@@ -212,6 +212,19 @@ def option_dict(option) -> dict[str, Any]:
     return data
 
 
+def format_shortfall(item: dict, units: str) -> str:
+    """A constraint's shortfall in its own units: percentage points, a length, a number."""
+    short = item.get("shortfall")
+    if not isinstance(short, (int, float)):
+        return ""
+    key = item.get("constraint", "")
+    if key.startswith("gradient") or key in ("target_gradient", "cross_fall"):
+        return f"{100 * short:.2f} percentage points"
+    if key == "side_friction":
+        return f"{short:.3f}"
+    return format_length(short, units)
+
+
 def drive_time(ev: Evaluation) -> float:
     """Time to drive from the top level to the bottom on the centre line at the rule
     set's design speed (15 km/h where it sets none)."""
@@ -277,8 +290,8 @@ def design_table(result) -> str:
             continue
         out.append(f"{LAYOUT_TITLES[o.layout]} does not work:")
         for item in o.explanation:
-            short = item.get("shortfall")
-            by = f" short by {short:g}" if isinstance(short, (int, float)) else ""
+            short = format_shortfall(item, u)
+            by = f" short by {short}" if short else ""
             out.append(f"  - {item['constraint']}{by}: {item.get('change', '')}")
         out.append("")
     if result.best is None:

@@ -13,6 +13,7 @@ from typing import Any
 
 from .errors import InputError, Node
 from .library_files import find_named, read_yaml
+from .units import format_length, format_speed
 
 __all__ = ["Limit", "GradientLimit", "TransitionRule", "RuleSet", "load_rule_set",
            "REFERENCE_LINES"]
@@ -101,8 +102,8 @@ class RuleSet:
     def clearance_inside(self) -> float:
         return self.structure_clearance_inside.value if self.structure_clearance_inside else 0.0
 
-    def summary(self) -> list[tuple[str, str, str]]:
-        """(key, value text, source) rows for reports."""
+    def summary(self, units: str = "metric") -> list[tuple[str, str, str]]:
+        """(key, value text, source) rows for reports, lengths in ``units``."""
         rows = []
         for g in self.gradient:
             steps = ", ".join(
@@ -117,22 +118,22 @@ class RuleSet:
                     "ground_clearance_margin"):
             lim = getattr(self, key)
             if lim is not None:
-                rows.append((key, _value_text(key, lim.value), lim.source))
+                rows.append((key, _value_text(key, lim.value, units), lim.source))
         if self.transition is not None:
             t = self.transition
-            rows.append(("transition", f"{t.length:.2f} m at half the change where it exceeds "
+            rows.append(("transition", f"{format_length(t.length, units)} at half the change where it exceeds "
                          f"{100 * t.when_grade_change_over:.1f} %", t.source))
         return rows
 
 
-def _value_text(key: str, value: float) -> str:
+def _value_text(key: str, value: float, units: str = "metric") -> str:
     if key.startswith("cross_fall"):
         return f"{100 * value:.1f} %"
     if key == "design_speed":
-        return f"{3.6 * value:.0f} km/h"
+        return format_speed(value, units)
     if key == "side_friction_max":
         return f"{value:.2f}"
-    return f"{value:.3f} m"
+    return format_length(value, units) if units == "imperial" else f"{value:.3f} m"
 
 
 # ----------------------------------------------------------------------------------

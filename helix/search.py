@@ -9,7 +9,8 @@ So the feasible radii of a family form an interval, found by
 
 1. screening a coarse grid of radii;
 2. bracketing each constraint that changes sign next to the first (or last) feasible
-   grid point, and solving ``margin(R) = 0`` with :func:`scipy.optimize.brentq`: the
+   grid point, and solving ``margin(R) = 0`` with Brent's method
+   (:func:`helix.roots.brent_root`, checked against ``scipy.optimize.brentq``): the
    reported radius lies on the binding constraint's boundary, not on a grid point;
 3. verifying the chosen design with the full checker (:func:`helix.evaluate`), which
    adds the design vehicle's clearances; a failing vehicle check moves the radius to
@@ -25,11 +26,11 @@ from dataclasses import dataclass, field, replace
 from itertools import product
 
 import numpy as np
-from scipy.optimize import brentq
 
 from .batch import BatchProfile, batch_min_headroom, build_profiles
 from .evaluate import Evaluation, evaluate
 from .layout import build_helix
+from .roots import brent_root
 from .project import Project
 
 __all__ = ["Family", "Screen", "Option", "DesignResult", "families", "screen", "design",
@@ -330,7 +331,7 @@ def _margin_fn(project: Project, family: Family, key: str):
 
 
 def _root(project: Project, family: Family, key: str, a: float, b: float) -> float:
-    """Radius where constraint ``key`` changes sign between ``a`` and ``b`` (brentq)."""
+    """Radius where constraint ``key`` changes sign between ``a`` and ``b`` (Brent)."""
     f = _margin_fn(project, family, key)
     fa, fb = f(a), f(b)
     if not (np.isfinite(fa) and np.isfinite(fb)) or fa * fb > 0:
@@ -343,7 +344,7 @@ def _root(project: Project, family: Family, key: str, a: float, b: float) -> flo
             else:
                 lo = mid
         return hi if fb >= 0 else lo
-    return float(brentq(f, a, b, xtol=1e-7, rtol=1e-12))
+    return float(brent_root(f, a, b, xtol=1e-7, rtol=1e-12))
 
 
 @dataclass(frozen=True)
@@ -452,7 +453,7 @@ def _grid(project: Project, points: int = 64) -> np.ndarray:
 
 def _verify(project: Project, cand: Candidate, grid: np.ndarray) -> tuple[Evaluation | None, Candidate]:
     """Full check of a screened candidate; a failing vehicle check moves the radius to
-    its boundary (brentq on the full check), or rejects the candidate."""
+    its boundary (Brent's method on the full check), or rejects the candidate."""
     ev = evaluate(family_project(project, cand.family, cand.radius))
     if ev.ok:
         return ev, cand
@@ -469,7 +470,7 @@ def _verify(project: Project, cand: Candidate, grid: np.ndarray) -> tuple[Evalua
 
     if margin(hi) < 0 or not screen(project, cand.family, [hi]).feasible()[0]:
         return None, cand
-    r = float(brentq(margin, cand.radius, hi, xtol=1e-6))
+    r = float(brent_root(margin, cand.radius, hi, xtol=1e-6))
     ev = evaluate(family_project(project, cand.family, r))
     if not ev.ok:
         return None, cand

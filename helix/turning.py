@@ -22,7 +22,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.integrate import solve_ivp
 
 from .vehicle import Vehicle
 
@@ -94,6 +93,8 @@ def transient_swept_band(vehicle: Vehicle, rear_axle_radius: float, ramp_length:
     outer front body corner and of the inner rear body side about the centre of the
     final circle, and that centre.
     """
+    from scipy.integrate import solve_ivp  # only here: importing scipy.integrate is slow
+
     wb = vehicle.wheelbase
     delta_ss = math.atan(wb / rear_axle_radius)
     run = 4 * math.pi * rear_axle_radius if run is None else run

@@ -16,7 +16,7 @@ end.  Wheels are points (tyre radius ignored).
 
 The vehicle is rolled facing up and facing down the ramp (front and rear overhangs
 swap ends); the smallest clearance over all positions is found on a dense grid and
-refined with a bounded scalar minimiser.
+refined with Brent's bounded minimiser (:func:`helix.roots.brent_minimum`).
 
 References
 ----------
@@ -29,9 +29,9 @@ from dataclasses import dataclass
 from typing import Callable
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from .alignment import Profile
+from .roots import brent_minimum, brent_root
 from .vehicle import Vehicle
 
 __all__ = ["PathProfile", "GroundContact", "place", "body_clearances", "minimum_clearance",
@@ -180,7 +180,7 @@ def body_clearances(vehicle: Vehicle, path: PathProfile, s_a, facing: str = "up"
 
 
 def minimum_clearance(vehicle: Vehicle, path: PathProfile, soffit: Callable | None = None,
-                      step: float = 0.05, facings=("up", "down"),
+                      step: float = 0.1, facings=("up", "down"),
                       focus: float | None = None) -> dict[str, GroundContact]:
     """Smallest clearance of each part over every position along the path.
 
@@ -208,9 +208,9 @@ def minimum_clearance(vehicle: Vehicle, path: PathProfile, soffit: Callable | No
         a, b = max(lo, s0 - step), min(hi, s0 + step)
         if b > a and (focus is None or grid_c <= floor + focus):
             f = lambda s: float(body_clearances(vehicle, path, [s], facing, soffit)[part][0][0])
-            res = minimize_scalar(f, bounds=(a, b), method="bounded", options={"xatol": 1e-6})
-            if res.fun < best_c:
-                best_s, best_c = float(res.x), float(res.fun)
+            x_min, f_min = brent_minimum(f, a, b, xtol=1e-6)
+            if f_min < best_c:
+                best_s, best_c = float(x_min), float(f_min)
         point = float(body_clearances(vehicle, path, [best_s], facing, soffit)[part][1][0])
         if part not in result or best_c < result[part].clearance:
             result[part] = GroundContact(part, best_c, best_s, point, facing)
@@ -291,10 +291,8 @@ def shortest_transition(vehicle: Vehicle, grade: float, kind: str = "segment", m
     ``longest`` does (a half-grade segment cannot help once half the change is more
     than the vehicle clears).  The clearance is not monotonic in the length of a
     half-grade segment near the wheelbase, so lengths are scanned down from
-    ``longest`` to the first that fails and the boundary refined there by ``brentq``.
+    ``longest`` to the first that fails and the boundary refined there by Brent's method.
     """
-    from scipy.optimize import brentq
-
     run = max(12.0, 2 * vehicle.length)
     flat = vehicle.length + 2.0
     f = lambda length: worst_ground_clearance(vehicle, transition_test_profile(
@@ -313,6 +311,6 @@ def shortest_transition(vehicle: Vehicle, grade: float, kind: str = "segment", m
     while upper - step > floor + 1e-9:
         lower = upper - step
         if f(lower) < 0:
-            return float(brentq(f, lower, upper, xtol=1e-4))
+            return float(brent_root(f, lower, upper, xtol=1e-4))
         upper = lower
-    return float(brentq(f, floor, upper, xtol=1e-4))
+    return float(brent_root(f, floor, upper, xtol=1e-4))

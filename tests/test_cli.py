@@ -163,3 +163,12 @@ def test_no_arguments_prints_help(capsys):
     assert status == 0 and err == ""
     assert out.startswith("usage: helix")
     assert "check" in out
+
+
+@pytest.mark.parametrize("command", ["check", "design"])
+def test_every_command_has_help_with_an_example(command, capsys):
+    with pytest.raises(SystemExit) as exit_info:
+        main([command, "--help"])
+    assert exit_info.value.code == 0
+    out = capsys.readouterr().out
+    assert "example:" in out and f"helix {command} configs/" in out

@@ -63,3 +63,22 @@ def test_twelve_to_one_is_8_33_percent_and_4_76_degrees():
     g = 1 / 12
     assert 100 * g == pytest.approx(8.33, abs=0.005)
     assert math.degrees(math.atan(g)) == pytest.approx(4.76, abs=0.005)
+
+
+def test_brent_root_and_minimum_match_scipy():
+    # Source: reference root finder and minimiser scipy.optimize.brentq and
+    # minimize_scalar(method="bounded") on the same functions.
+    from scipy.optimize import brentq, minimize_scalar
+
+    from helix.roots import RootError, brent_minimum, brent_root
+    cases = [(lambda x: x ** 3 - 2 * x - 5, 2.0, 3.0), (lambda x: math.cos(x) - x, 0.0, 1.0),
+             (lambda x: math.exp(x) - 7.5, -1.0, 4.0), (lambda x: 3.0 / (2 * math.pi * x) - 0.1, 1.0, 20.0)]
+    for f, a, b in cases:
+        assert brent_root(f, a, b, xtol=1e-13) == pytest.approx(brentq(f, a, b, xtol=1e-13), abs=1e-11)
+    with pytest.raises(RootError):
+        brent_root(lambda x: x * x + 1, -1.0, 1.0)
+    for f, a, b in [(lambda x: (x - 1.3) ** 2 + 0.5, 0.0, 3.0), (lambda x: abs(x - 0.37), 0.0, 1.0),
+                    (lambda x: math.sin(x), 3.0, 6.0)]:
+        x, fx = brent_minimum(f, a, b, xtol=1e-9)
+        ref = minimize_scalar(f, bounds=(a, b), method="bounded", options={"xatol": 1e-9})
+        assert x == pytest.approx(ref.x, abs=1e-6) and fx == pytest.approx(ref.fun, abs=1e-9)

@@ -65,9 +65,17 @@ def test_pdf_has_the_expected_pages(metric_out):
 
 
 def test_outputs_are_byte_identical_between_runs(tmp_path):
+    # Two separate processes with different string-hash seeds: nothing may depend on
+    # set or dict ordering.
+    import os
+    import subprocess
+    import sys
     a, b = tmp_path / "a", tmp_path / "b"
-    assert main(["check", METRIC, "-o", str(a)]) == 0
-    assert main(["check", METRIC, "-o", str(b)]) == 0
+    for out, seed in ((a, "1"), (b, "2")):
+        env = dict(os.environ, PYTHONHASHSEED=seed)
+        done = subprocess.run([sys.executable, "-m", "helix", "check", METRIC, "-o", str(out)], env=env,
+                              capture_output=True, text=True)
+        assert done.returncode == 0, done.stderr
     for name in ("result.json", "setting_out.csv", "plan.dxf", "report.pdf", "report.md", "plan.svg",
                  "section.svg", "gradient.svg"):
         assert (a / name).read_bytes() == (b / name).read_bytes(), name
