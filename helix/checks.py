@@ -195,24 +195,25 @@ def lane_width_swept_check(project: Project, helix: Helix) -> Check:
                  "length", src, where, note)
 
 
-def ground_clearance_check(project: Project, contact, where: str) -> Check:
-    rules = project.rules
-    lim = rules.ground_clearance_margin
+def _vehicle_clearance_check(check_id: str, title: str, lim: Limit | None, contact, where: str,
+                             geometric: str, missing: str) -> Check:
+    """A clearance of the design vehicle against the rule set's margin (0 if none)."""
     value = contact.clearance if contact is not None else None
-    return Check("underbody_clearance", "Underbody and overhang clearance at changes of grade", value,
-                 lim.value if lim else 0.0, "min", "length",
-                 lim.source if lim else "geometric: the body must not touch the running surface",
-                 where, "" if contact is not None else "vehicle gives no ground clearances")
+    return Check(check_id, title, value, lim.value if lim else 0.0, "min", "length",
+                 lim.source if lim else geometric, where, "" if contact is not None else missing)
+
+
+def ground_clearance_check(project: Project, contact, where: str) -> Check:
+    return _vehicle_clearance_check(
+        "underbody_clearance", "Underbody and overhang clearance at changes of grade",
+        project.rules.ground_clearance_margin, contact, where,
+        "geometric: the body must not touch the running surface", "vehicle gives no ground clearances")
 
 
 def roof_clearance_check(project: Project, contact, where: str) -> Check:
-    rules = project.rules
-    lim = rules.vehicle_roof_clearance
-    value = contact.clearance if contact is not None else None
-    return Check("roof_clearance", "Vehicle roof below the soffit overhead", value,
-                 lim.value if lim else 0.0, "min", "length",
-                 lim.source if lim else "geometric: the roof must not touch the structure",
-                 where, "" if contact is not None else "nothing lies above the ramp")
+    return _vehicle_clearance_check(
+        "roof_clearance", "Vehicle roof below the soffit overhead", project.rules.vehicle_roof_clearance,
+        contact, where, "geometric: the roof must not touch the structure", "nothing lies above the ramp")
 
 
 def side_friction_check(project: Project, helix: Helix) -> Check:

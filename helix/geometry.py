@@ -58,14 +58,11 @@ def helix_length(plan_angle, radius, pitch_m):
     return np.asarray(plan_angle, float) * np.hypot(radius, c)
 
 
-@dataclass(frozen=True)
-class Lane:
-    """One traffic lane between two radii of a thread."""
+class _Annulus:
+    """Centre and width of anything between ``inner_radius`` and ``outer_radius``."""
 
-    name: str
     inner_radius: float
     outer_radius: float
-    direction: str  # "up", "down" or "up and down"
 
     @property
     def centre_radius(self) -> float:
@@ -76,8 +73,18 @@ class Lane:
         return self.outer_radius - self.inner_radius
 
 
+@dataclass(frozen=True)
+class Lane(_Annulus):
+    """One traffic lane between two radii of a thread."""
+
+    name: str
+    inner_radius: float
+    outer_radius: float
+    direction: str  # "up", "down" or "up and down"
+
+
 @dataclass(frozen=True, eq=False)
-class Thread:
+class Thread(_Annulus):
     """One continuous helicoidal running surface.
 
     ``start_bearing`` is the plan bearing (rad, anticlockwise from +x) at
@@ -98,14 +105,6 @@ class Thread:
     hand: int = 1
     cross_fall: float = 0.0
     traffic: str = "up"  # direction of the thread's traffic: "up", "down", "up and down"
-
-    @property
-    def centre_radius(self) -> float:
-        return 0.5 * (self.inner_radius + self.outer_radius)
-
-    @property
-    def width(self) -> float:
-        return self.outer_radius - self.inner_radius
 
     def bearing(self, theta):
         """Plan bearing (rad) of unrolled plan angle ``theta``."""

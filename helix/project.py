@@ -220,11 +220,9 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[Des
             raise layouts_node.error(f"got an empty list; expected some of {', '.join(SEARCH_LAYOUTS)}")
         fixed = False
         layout = "single"
-        traffic_for_base = traffic
     else:
         layout = layout_node.text(LAYOUT_CHOICES) if layout_node else "single"
         layouts = (f"single-{traffic}",) if layout == "single" else (layout,)
-        traffic_for_base = traffic
     if layout != "single" and traffic == "two-way":
         raise layout_node.error(  # type: ignore[union-attr]
             f"a {layout} helix carries one-way traffic on each thread; expected layout 'single' "
@@ -244,7 +242,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[Des
         r_lo = r_hi = rc
 
     lw = node.child("lane_width", required=False)
-    n_lanes = 2 if traffic_for_base == "two-way" else 1
+    n_lanes = 2 if traffic == "two-way" else 1
     auto_width = lw is not None and lw.data == "auto"
     if auto_width:
         fixed = False

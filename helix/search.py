@@ -58,9 +58,8 @@ class Family:
         return 2 if self.layout == "single-two-way" else 1
 
     def label(self) -> str:
-        t = self.turns[0] if len(set(self.turns)) == 1 else "/".join(f"{x:g}" for x in self.turns)
-        return f"{LAYOUT_TITLES[self.layout]}, {t:g} turns per storey" if isinstance(t, float) else \
-            f"{LAYOUT_TITLES[self.layout]}, {t} turns per storey"
+        turns = "/".join(f"{x:g}" for x in dict.fromkeys(self.turns))  # each value once, in order
+        return f"{LAYOUT_TITLES[self.layout]}, {turns} turns per storey"
 
 
 def families(project: Project) -> list[Family]:
@@ -161,8 +160,7 @@ def _thread_radii(project: Project, family: Family, radius: np.ndarray, carriage
 
 
 def _transitions(project: Project, family: Family, rc: np.ndarray, landing: np.ndarray) -> np.ndarray:
-    """Transition plan angles (N, n) as the layout builder sets them."""
-    from .alignment import storey_run_slope  # noqa: F401  (same rule, vectorised below)
+    """Transition plan angles (N, n), by the same rule as :func:`helix.layout.transition_length`."""
     d = project.design
     n = project.storeys
     if d.transition_length is not None:
