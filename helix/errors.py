@@ -38,8 +38,8 @@ class InputError(Exception):
 
 
 def _short(value: Any) -> str:
-    text = repr(value)
-    return text if len(text) <= 60 else text[:57] + "..."
+    # Not repr(value): a YAML alias bomb or a list that holds itself never finishes printing.
+    return units.short_repr(value, 60)
 
 
 class Node:

@@ -72,6 +72,11 @@ def read_yaml(path: Path, display: str | None = None):
         raise InputError(shown, "", f"YAML does not parse: {where}{problem}") from None
     except RecursionError:
         raise InputError(shown, "", "YAML nests too deeply") from None
+    except (ValueError, TypeError, KeyError, IndexError, AttributeError, OverflowError) as exc:
+        # PyYAML's constructors let these through for values they cannot build: an
+        # integer of 5000 digits, 2001-13-45, '!!int x', '!!bool x', '!!timestamp'.
+        raise InputError(shown, "", f"YAML does not parse: a value cannot be read "
+                         f"({type(exc).__name__}: {str(exc).split(';')[0][:120]})") from None
     if data is None:
         raise InputError(shown, "", "file is empty; expected a mapping of keys to values")
     if not isinstance(data, dict):

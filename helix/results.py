@@ -25,6 +25,12 @@ def _r(x: float | None, nd: int = 4) -> float | None:
     return round(float(x), nd) + 0.0  # + 0.0 turns -0.0 into 0.0
 
 
+def _bearing(deg: float, nd: int) -> float | None:
+    """A plan bearing in [0, 360): rounded, then wrapped (359.9999 would round to 360)."""
+    value = _r(deg % 360.0, nd)
+    return None if value is None else value % 360.0
+
+
 def _check_value(c, x):
     if x is None:
         return None
@@ -75,7 +81,7 @@ def to_dict(ev: Evaluation) -> dict[str, Any]:
         "name": t.name, "traffic": t.traffic,
         "inner_radius_m": _r(t.inner_radius), "centre_radius_m": _r(t.centre_radius),
         "outer_radius_m": _r(t.outer_radius),
-        "start_bearing_deg": _r(math.degrees(t.start_bearing) % 360, 3),
+        "start_bearing_deg": _bearing(math.degrees(t.start_bearing), 3),
         "hand": "anticlockwise" if t.hand > 0 else "clockwise",
         "cross_fall_pct": _r(100 * t.cross_fall, 3),
         "lanes": [{"name": ln.name, "direction": ln.direction, "inner_radius_m": _r(ln.inner_radius),
@@ -122,7 +128,7 @@ def to_dict(ev: Evaluation) -> dict[str, Any]:
         "headroom_min_m": _r(ev.headroom.clear) if ev.headroom else None,
         "headroom_min_at": None if at is None else {
             "thread": at.thread, "level": at.level, "storey": at.storey,
-            "chainage_m": _r(at.chainage, 3), "radius_m": _r(at.radius), "bearing_deg": _r(at.bearing_deg, 2),
+            "chainage_m": _r(at.chainage, 3), "radius_m": _r(at.radius), "bearing_deg": _bearing(at.bearing_deg, 2),
             "under": ev.headroom.above if ev.headroom else None,
         },
         "vehicle": {"name": p.vehicle.name, "title": p.vehicle.title,

@@ -273,8 +273,9 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
     elif rules.lane_width_one_way is not None:
         margins["lane_width"] = widths.min(axis=1) - rules.lane_width_one_way.value
     margins["lane_width_swept"] = swept
-    # A carriageway wider than the radius allows has no inner kerb at all.
-    margins["geometry"] = np.where(inner_min > 0.05, inner_min, -np.inf)
+    # The same rule as the project loader: the centre-line radius must exceed the
+    # carriageway width (so the inner kerb lies at least half a carriageway out).
+    margins["geometry"] = np.where(radius > carriageway, radius - carriageway, -np.inf)
     if rules.side_friction_max is not None:
         margins["side_friction"] = rules.side_friction_max.value - friction
     if rules.cross_fall_min is not None:
@@ -634,13 +635,15 @@ def design(project: Project, grid_points: int = 64) -> DesignResult:
         # The least-bad radius, fully evaluated so the option carries every key.
         sc_best = None
         for fam in group:
-            bad = badness(screen(project, fam, grid))
+            sc = screen(project, fam, grid)
+            # Only a radius whose carriageway leaves an inner kerb is a helix to show.
+            bad = np.where(sc.margins["geometry"] > 0, badness(sc), np.inf)
             i = int(np.argmin(bad))
             if sc_best is None or bad[i] < sc_best[0]:
                 sc_best = (bad[i], fam, float(grid[i]))
-        _, fam, r = sc_best  # type: ignore[misc]
+        worst, fam, r = sc_best  # type: ignore[misc]
         try:  # already failing: the slow vehicle-rolling checks add nothing
-            ev = evaluate(family_project(project, fam, r), vehicle=False)
+            ev = evaluate(family_project(project, fam, r), vehicle=False) if np.isfinite(worst) else None
         except ValueError:
             ev = None
         final.append(Option(o.layout, fam, ev, "infeasible", False, expl))

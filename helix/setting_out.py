@@ -44,7 +44,8 @@ def stations(ev: Evaluation, spacing: float) -> list[dict]:
                 "thread": t.name, "station": n,
                 "chainage_m": round(float(t.chainage(theta[n])), 4),
                 "plan_angle_deg": round(math.degrees(theta[n]), 3),
-                "bearing_deg": round(math.degrees(float(t.bearing(theta[n]))) % 360.0, 3),
+                # Rounded, then wrapped again: 359.9999999 deg would round to 360.0.
+                "bearing_deg": round(math.degrees(float(t.bearing(theta[n]))) % 360.0, 3) % 360.0,
                 "x_m": round(float(x[n]), 4), "y_m": round(float(y[n]), 4),
                 "level_inner_kerb_m": round(float(z_in[n]), 4), "level_centre_m": round(float(z_c[n]), 4),
                 "level_outer_kerb_m": round(float(z_out[n]), 4),

@@ -21,6 +21,7 @@ __all__ = [
     "parse_speed",
     "parse_number",
     "parse_angle",
+    "short_repr",
     "uses_imperial",
     "format_length",
     "format_level",
@@ -54,6 +55,50 @@ _NUMBER = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?"
 _TERM = re.compile(rf"\s*({_NUMBER})\s*(mm|cm|m|feet|foot|ft|inches|inch|in|'|\")?(?![a-z])\s*-?", re.I)
 
 
+def short_repr(value: object, limit: int = 60) -> str:
+    """``repr(value)`` cut to ``limit`` characters (ending in ``...`` when cut).
+
+    Lists, tuples and mappings are walked only as far as the text needs: a YAML alias
+    bomb (a few hundred bytes that expand to billions of items) or a value that holds
+    itself would never finish printing with ``repr``.
+    """
+    parts: list[str] = []
+    size = 0
+
+    def emit(text: str) -> None:
+        nonlocal size
+        parts.append(text)
+        size += len(text)
+
+    def walk(v: object) -> None:
+        if size > limit:
+            return
+        if isinstance(v, (list, tuple)):
+            emit("[" if isinstance(v, list) else "(")
+            for i, item in enumerate(v):
+                if size > limit:
+                    return
+                emit(", " if i else "")
+                walk(item)
+            emit(("," if isinstance(v, tuple) and len(v) == 1 else "") + ("]" if isinstance(v, list) else ")"))
+        elif isinstance(v, dict):
+            emit("{")
+            for i, (key, item) in enumerate(v.items()):
+                if size > limit:
+                    return
+                emit(", " if i else "")
+                walk(key)
+                emit(": ")
+                walk(item)
+            emit("}")
+        else:
+            emit(repr(v))
+
+    walk(value)
+    text = "".join(parts)
+    return text if len(text) <= limit else text[:limit - 3] + "..."
+
+
 class UnitError(ValueError):
     """A value whose text cannot be read as the quantity asked for.
 
@@ -61,7 +106,7 @@ class UnitError(ValueError):
     """
 
     def __init__(self, text: object, expected: str):
-        super().__init__(f"got {text!r}; expected {expected}")
+        super().__init__(f"got {short_repr(text, 200)}; expected {expected}")
         self.text = text
         self.expected = expected
 
@@ -77,12 +122,20 @@ def _finite(x: float, text: object, expected: str) -> float:
     return x
 
 
+def _float(value: int | float, expected: str) -> float:
+    """``float(value)``; YAML reads ``1000...0`` (400 digits) as an int no float can hold."""
+    try:
+        return float(value)
+    except OverflowError:
+        raise UnitError(value, expected) from None
+
+
 def parse_number(value: object, expected: str = "a number") -> float:
     """A plain finite number (bool is refused: YAML reads ``yes`` as True)."""
     if isinstance(value, bool):
         raise UnitError(value, expected)
     if isinstance(value, (int, float)):
-        return _finite(float(value), value, expected)
+        return _finite(_float(value, expected), value, expected)
     if isinstance(value, str):
         try:
             return _finite(float(value.strip()), value, expected)
@@ -117,7 +170,7 @@ def parse_length(value: object) -> float:
     if isinstance(value, bool):
         raise UnitError(value, LENGTH_FORMS)
     if isinstance(value, (int, float)):
-        return _finite(float(value), value, LENGTH_FORMS)
+        return _finite(_float(value, LENGTH_FORMS), value, LENGTH_FORMS)
     if not isinstance(value, str):
         raise UnitError(value, LENGTH_FORMS)
     terms = _length_terms(value)
@@ -241,7 +294,7 @@ def parse_angle(value: object) -> float:
     if isinstance(value, bool):
         raise UnitError(value, ANGLE_FORMS)
     if isinstance(value, (int, float)):
-        return _finite(math.radians(float(value)), value, ANGLE_FORMS)
+        return _finite(math.radians(_float(value, ANGLE_FORMS)), value, ANGLE_FORMS)
     if not isinstance(value, str):
         raise UnitError(value, ANGLE_FORMS)
     m = _ANGLE.match(value)

@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .errors import InputError, Node
+from .errors import InputError, Node, _short
 from .library_files import find_named, read_yaml
 
 __all__ = ["Vehicle", "load_vehicle", "VEHICLE_KEYS"]
@@ -79,7 +79,8 @@ def load_vehicle(spec: Node, project_dir: Path | None) -> Vehicle:
         root = Node(read_yaml(path), str(path))
         return _from_node(root, spec.text())
     if isinstance(spec.data, dict):
-        name = spec.data.get("name", "inline vehicle")
-        return _from_node(spec, str(name))
+        # text(), not str(): str() of a YAML alias bomb never finishes.
+        name = spec.child("name").text() if spec.has("name") else "inline vehicle"
+        return _from_node(spec, name)
     raise InputError(spec.file, spec.path,
-                     f"got {spec.data!r}; expected a vehicle name such as 'aashto-p' or a mapping of dimensions")
+                     f"got {_short(spec.data)}; expected a vehicle name such as 'aashto-p' or a mapping of dimensions")
