@@ -23,13 +23,11 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from itertools import product
 
 import numpy as np
 
 from .batch import BatchProfile, batch_min_headroom, build_profiles
 from .evaluate import Evaluation, evaluate
-from .layout import build_helix
 from .roots import brent_root
 from .project import Project
 
@@ -478,7 +476,7 @@ def _verify(project: Project, cand: Candidate, grid: np.ndarray) -> tuple[Evalua
 
 
 def _explain(project: Project, layout: str, fams: list[Family], grid: np.ndarray,
-             feasible_layouts: set[str]) -> tuple[dict, ...]:
+             feasible_layouts: set[str], screens: dict) -> tuple[dict, ...]:
     """Each violated constraint of the layout, by how much, and the smallest single
     change that would make the layout feasible.
 
@@ -490,8 +488,7 @@ def _explain(project: Project, layout: str, fams: list[Family], grid: np.ndarray
     u = project.units
     ext = np.linspace(grid[0], max(grid[-1] * 3, grid[-1] + 30), 160)
     # Explain the family that comes closest: the best worst-margin over its radii.
-    screens = [(fam, screen(project, fam, grid)) for fam in fams]
-    fam, sc = min(screens, key=lambda fs: float(np.min(badness(fs[1]))))
+    fam, sc = min(((f, screens[f]) for f in fams), key=lambda fs: float(np.min(badness(fs[1]))))
     sce = screen(project, fam, ext)
     keys = list(sc.margins)
     worst_i = int(np.argmin(badness(sc)))
@@ -594,10 +591,11 @@ def design(project: Project, grid_points: int = 64) -> DesignResult:
         by_layout.setdefault(f.layout, []).append(f)
     options: list[Option] = []
     cloud: list[dict] = []
+    screens: dict[Family, Screen] = {}  # each family's grid screen, computed once
     for layout, group in by_layout.items():
         cands = []
         for fam in group:
-            sc = screen(project, fam, grid)
+            sc = screens[fam] = screen(project, fam, grid)
             c = _best_in_family(project, fam, grid, objective, sc)
             if c is None:
                 continue
@@ -631,11 +629,11 @@ def design(project: Project, grid_points: int = 64) -> DesignResult:
             final.append(o)
             continue
         group = by_layout[o.layout]
-        expl = _explain(project, o.layout, group, grid, feasible_layouts)
+        expl = _explain(project, o.layout, group, grid, feasible_layouts, screens)
         # The least-bad radius, fully evaluated so the option carries every key.
         sc_best = None
         for fam in group:
-            sc = screen(project, fam, grid)
+            sc = screens[fam]
             # Only a radius whose carriageway leaves an inner kerb is a helix to show.
             bad = np.where(sc.margins["geometry"] > 0, badness(sc), np.inf)
             i = int(np.argmin(bad))

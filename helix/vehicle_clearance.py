@@ -249,19 +249,16 @@ def transition_test_profile(grade: float, length: float, kind: str = "segment",
     q: list[float] = []
     kinds: list[str] = []
     z = 0.0
-    segs = [(flat, landing_grade, 0.0, "landing")]
-    if length > 0:
+    def transition(g_from: float, g_to: float) -> list[tuple[float, float, float, str]]:
+        if length <= 0:
+            return []
         if kind == "curve":
-            segs.append((length, landing_grade, (grade - landing_grade) / length, "transition"))
-        else:
-            segs.append((length, 0.5 * (grade + landing_grade), 0.0, "transition"))
-    segs.append((run, grade, 0.0, "run"))
-    if length > 0:
-        if kind == "curve":
-            segs.append((length, grade, (landing_grade - grade) / length, "transition"))
-        else:
-            segs.append((length, 0.5 * (grade + landing_grade), 0.0, "transition"))
-    segs.append((flat, landing_grade, 0.0, "landing"))
+            return [(length, g_from, (g_to - g_from) / length, "transition")]
+        return [(length, 0.5 * (g_from + g_to), 0.0, "transition")]
+
+    segs = ([(flat, landing_grade, 0.0, "landing")] + transition(landing_grade, grade)
+            + [(run, grade, 0.0, "run")] + transition(grade, landing_grade)
+            + [(flat, landing_grade, 0.0, "landing")])
     starts = np.concatenate([[0.0], np.cumsum([sg[0] for sg in segs])])
     for sg in segs:
         z0.append(z)
