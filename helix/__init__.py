@@ -11,7 +11,8 @@ from .errors import InputError
 from .evaluate import Evaluation, evaluate
 from .layout import build_helix
 from .project import Project, load_project
+from .search import DesignResult, design
 
 __version__ = "0.1.0"
 __all__ = ["InputError", "Evaluation", "evaluate", "build_helix", "Project", "load_project",
-           "__version__"]
+           "design", "DesignResult", "__version__"]

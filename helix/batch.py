@@ -129,14 +129,16 @@ def build_profiles(levels: np.ndarray, plan: np.ndarray, landing: np.ndarray, tr
 
 
 def batch_min_headroom(profiles: list[BatchProfile], start_bearings: list[float], hand: int,
-                       same_annulus: bool, depth: float, cover_soffit: float | None = None) -> np.ndarray:
+                       same_annulus: bool, depth: float, cover_soffit: float | None = None,
+                       spans: list[tuple[np.ndarray, np.ndarray]] | None = None) -> np.ndarray:
     """Smallest clear headroom (C,) over the threads of every candidate.
 
     ``profiles`` holds one :class:`BatchProfile` per thread (same candidates); when
     ``same_annulus`` is false (a concentric pair) each thread only has its own turns
     overhead.  Exact like :func:`helix.clearance.minimum_headroom`: every breakpoint of
     every alignment involved, and the vertex of the gap on every piece between them.
-    ``inf`` where nothing is overhead.
+    ``inf`` where nothing is overhead.  ``spans`` (one ``(lo, hi)`` pair of (C,) arrays
+    per thread) limits the points measured on each thread to those plan angles.
     """
     c = profiles[0].t.shape[0]
     best = np.full(c, np.inf)
@@ -157,7 +159,8 @@ def batch_min_headroom(profiles: list[BatchProfile], start_bearings: list[float]
         # Critical angles on thread i: its breakpoints and every overhead one, shifted.
         pts = [p.t] + [u.t - shift for u, shift in overhead]
         grid = np.sort(np.concatenate(pts, axis=1), axis=1)
-        grid = np.clip(grid, p.start[:, None], p.end[:, None])
+        lo, hi = (p.start, p.end) if spans is None else spans[i]
+        grid = np.clip(grid, lo[:, None], hi[:, None])
         eps = 1e-9
 
         def nearest_gap(theta):

@@ -109,6 +109,8 @@ class SearchSpace:
     target_gradient: float | None
     objective: str
     fixed: bool  # the design section gives one fully specified helix
+    turns_free: bool = False  # no turns given: each layout's usual turns, storey by storey
+    range_from_plot: bool = False  # the radius range was derived from the plot, not given
 
 
 @dataclass(frozen=True)
@@ -207,7 +209,8 @@ def _site(node: Node) -> Site:
     return Site(width, depth, margin)
 
 
-def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[DesignSpec, SearchSpace]:
+def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
+            units: str = "metric") -> tuple[DesignSpec, SearchSpace]:
     node.require_mapping()
     fixed = True
     layouts_node = node.child("layouts", required=False)
@@ -264,12 +267,16 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[Des
     dv = node.child("divider", required=False)
     divider = dv.length(non_negative=True) if dv else 0.3
     carriageway = sum(widths) + (central if n_lanes > 1 else 0.0)
-    if rc <= carriageway and not auto_width:
+    # A fixed radius must leave an inner kerb; a search range is clipped to what can be
+    # built instead (the search says so).
+    if rc <= carriageway and not auto_width and r_lo == r_hi:
+        from .units import format_length
         raise rc_node.error(f"got {rc_node.data!r}; expected a centre-line radius larger than the "
-                            f"carriageway width ({carriageway:.2f} m)")
+                            f"carriageway width ({format_length(carriageway, units)})")
 
     tps = node.child("turns_per_storey", required=False)
     choices = None
+    turns_free = False
     if tps is not None and isinstance(tps.data, dict):
         fixed = False
         ch = tps.child("choices")
@@ -281,6 +288,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[Des
         turns = (choices[0],) * storeys
     elif tps is None:
         turns = (0.5 if layout == "double" else 1.0,) * storeys
+        turns_free = True
     elif isinstance(tps.data, list):
         turns = tuple(item.number(positive=True, what="a positive number of turns such as 1 or 0.75")
                       for item in tps.items())
@@ -346,7 +354,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[Des
     node.done()
     search = SearchSpace(layouts=layouts, radius_min=r_lo, radius_max=r_hi, turns_choices=choices,
                          lane_widths=None if auto_width else widths, target_gradient=target,
-                         objective=objective, fixed=fixed)
+                         objective=objective, fixed=fixed, turns_free=turns_free)
     return DesignSpec(layout=layout, centre_radius=rc, lane_widths=widths, turns_per_storey=turns,
                       central_kerb=central if n_lanes > 1 else 0.0, divider=divider, hand=hand,
                       start_bearing=start, landing_length=landing, transition_length=t_len,
@@ -364,14 +372,20 @@ def _turns_fit(turns: float, connections: str) -> bool:
     return True
 
 
-def _pin_bearings(levels_node: Node, levels: tuple[Level, ...], design: DesignSpec) -> DesignSpec:
-    """Check pinned connection bearings against the turns; the first pin may set the start."""
+def _pin_bearings(levels_node: Node, levels: tuple[Level, ...], design: DesignSpec,
+                  check_turns: bool = True) -> DesignSpec:
+    """Check pinned connection bearings against the turns; the first pin may set the start.
+
+    With ``check_turns`` false (turns searched) the pins only set the start; the search
+    keeps to them."""
     import dataclasses
     pins = [(i, lv.bearing) for i, lv in enumerate(levels) if lv.bearing is not None]
     if not pins:
         return design
     if pins[0][0] == 0:
         design = dataclasses.replace(design, start_bearing=pins[0][1])
+    if not check_turns:
+        return design
     bearing = design.start_bearing
     for i, lv in enumerate(levels):
         if i > 0:
@@ -424,10 +438,11 @@ def load_project(path: str | Path) -> Project:
     vehicle_node = root.child("vehicle", required=False)
     vehicle = load_vehicle(vehicle_node if vehicle_node is not None else
                            Node(DEFAULT_VEHICLE, shown, "vehicle"), project_dir)
-    design, search = _design(root.child("design"), traffic, len(levels) - 1, rules)
-    design = _pin_bearings(root.child("levels"), levels, design)
     units_node = root.child("units", required=False)
     units = units_node.text(("metric", "imperial")) if units_node else ("imperial" if imperial else "metric")
+    design, search = _design(root.child("design"), traffic, len(levels) - 1, rules, units)
+    design = _pin_bearings(root.child("levels"), levels, design, check_turns=search.fixed or
+                           (search.turns_choices is None and not search.turns_free))
     root.done()
     if structure.cover_soffit is not None and structure.cover_soffit <= levels[-1].level:
         raise InputError(shown, "structure.cover_soffit",

@@ -19,7 +19,7 @@ from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
 
 from .evaluate import Evaluation  # noqa: E402
 from .figures import A4_LANDSCAPE, FIGURES, PALETTE, STYLE  # noqa: E402
-from .results import CAUTION, drive_time, format_shortfall  # noqa: E402
+from .results import CAUTION, drive_time, format_shortfall, searched_text  # noqa: E402
 from .setting_out import stations  # noqa: E402
 from .units import format_gradient, format_length, format_level  # noqa: E402
 
@@ -129,12 +129,16 @@ def _comparison(result) -> list[tuple[str, object]]:
     blocks: list[tuple[str, object]] = [
         ("h1", "Comparison of layouts"),
         ("p", f"Objective: {result.project.search.objective}. Ranked; the radius of each design lies on "
-              "the boundary of its binding constraint."),
+              "the boundary of its binding constraint; a failing layout shows its least-failing design "
+              "(every rule met but the one named). Searched: "
+              + "; ".join(f"{LAYOUT_TITLES[o.layout]}: {searched_text(o)}" for o in result.options) + "."),
         ("table", (["#", "layout", "centre radius", "diameter", "grade inner", "headroom", "status", "binding"],
                    rows, [0.04, 0.22, 0.11, 0.1, 0.12, 0.1, 0.07, 0.24]))]
     for o in result.options:
         if not o.feasible:
-            items = [[e["constraint"], format_shortfall(e, u), e.get("change", "")] for e in o.explanation]
+            items = [[e["constraint"], format_shortfall(e, u),
+                      e.get("change", "") + (f" ({e['verified_result']})" if e.get("verified_result") else "")]
+                     for e in o.explanation]
             blocks += [("h2", f"Why the {LAYOUT_TITLES[o.layout]} does not work"),
                        ("table", (["constraint", "shortfall", "smallest single change"], items, [0.2, 0.1, 0.7]))]
     return blocks

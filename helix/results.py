@@ -211,11 +211,41 @@ def option_dict(option) -> dict[str, Any]:
         "feasible": option.feasible,
         "footprint_m": [_r(d), _r(d)] if d is not None else None,
         "binding": option.binding,
+        "turns_per_storey": list(option.family.turns) if option.family is not None else None,
+        "centre_radius_m": _r(option.evaluation.helix.threads[0].centre_radius) if option.evaluation else None,
+        "feasible_radii_m": [[_r(a), _r(b)] for a, b in option.region],
+        "searched": option.searched,
+        "notes": list(option.notes),
         "explanation": list(option.explanation),
         "drive_time_top_to_bottom_s": _r(drive_time(option.evaluation), 1) if option.evaluation else None,
     })
     data["ok"] = bool(option.feasible and data.get("ok", False))
     return data
+
+
+def turns_text(turns) -> str:
+    """Turns per storey from the bottom, runs of one value written once with a count:
+    ``1.5, 1 x3``."""
+    runs: list[list] = []
+    for t in turns:
+        t = round(float(t), 6)
+        if runs and runs[-1][0] == t:
+            runs[-1][1] += 1
+        else:
+            runs.append([t, 1])
+    return ", ".join(f"{t:g}" + (f" x{k}" if k > 1 else "") for t, k in runs)
+
+
+def searched_text(option) -> str:
+    """What the search looked at for one layout, in a line."""
+    sr = option.searched or {}
+    choices = sr.get("turns_choices") or []
+    distinct = sorted({t for c in choices for t in c})
+    text = (f"turns per storey from {', '.join(f'{t:g}' for t in distinct)} storey by storey "
+            f"({sr.get('combinations', 0)} combinations)" if choices else "turns as fixed")
+    if "nodes" in sr:
+        text += f"; {sr['nodes']} partial designs and {sr.get('headroom_windows', 0)} storey headroom regions examined"
+    return text
 
 
 def format_shortfall(item: dict, units: str) -> str:
@@ -260,8 +290,12 @@ def design_table(result) -> str:
     u = p.units
     out = [p.name, f"rule set: {p.rules.title}", f"vehicle: {p.vehicle.title}",
            f"objective: {p.search.objective}; layouts {', '.join(p.search.layouts)}; radius "
-           f"{format_length(p.search.radius_min, u)} to {format_length(p.search.radius_max, u)}; turns per storey "
-           f"{', '.join(f'{t:g}' for t in p.search.turns_choices) if p.search.turns_choices else 'as fixed'}", ""]
+           f"{format_length(p.search.radius_min, u)} to {format_length(p.search.radius_max, u)}; "
+           f"lane width {'auto (rule minimum or swept path, exact)' if p.search.lane_widths is None else 'fixed'}"]
+    for o in result.options:
+        out.append(f"  {LAYOUT_TITLES[o.layout]}: {searched_text(o)}")
+        out += [f"    note: {n}" for n in o.notes]
+    out.append("")
     rows = []
     for rank, o in enumerate(result.options, 1):
         ev = o.evaluation
@@ -271,11 +305,10 @@ def design_table(result) -> str:
             continue
         h = ev.helix
         first = [s for s in ev.storeys if s.thread == h.threads[0].name]
-        turns = sorted({round(s.turns, 3) for s in first})
         head = ev.headroom.clear if ev.headroom else None
         fails = [c.id for c in ev.checks if not c.ok]
         rows.append([
-            str(rank), LAYOUT_TITLES[o.layout], str(len(h.threads)), "/".join(f"{t:g}" for t in turns),
+            str(rank), LAYOUT_TITLES[o.layout], str(len(h.threads)), turns_text(s.turns for s in first),
             format_length(h.threads[0].centre_radius, u),
             format_length(min(ln.width for t in h.threads for ln in t.lanes), u),
             format_length(h.overall_diameter, u),
@@ -299,6 +332,8 @@ def design_table(result) -> str:
             short = format_shortfall(item, u)
             by = f" short by {short}" if short else ""
             out.append(f"  - {item['constraint']}{by}: {item.get('change', '')}")
+            if item.get("verified_result"):
+                out.append(f"      {item['verified_result']}")
         out.append("")
     if result.best is None:
         out.append("RESULT: no layout passes every check; see the changes above")

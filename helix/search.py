@@ -1,23 +1,33 @@
 """The design search: the best helix of each layout that fits the plot and the rules.
 
-A *family* is one layout with one choice of turns per storey and of lane widths; in a
-family the only continuous variable is the centre-line radius ``R``.  Every rule is a
-*margin* function of ``R`` (positive where it is met), evaluated for many radii at once
-as numpy arrays (:func:`screen`).  Gradient, kerb radii, swept lane width and side
-friction improve as ``R`` grows; the footprint gets worse; headroom hardly changes.
-So the feasible radii of a family form an interval, found by
+A *family* is one layout with one choice of turns for every storey and of lane widths;
+in a family the only continuous variable is the centre-line radius ``R``.  Every rule
+is a *margin* function of ``R`` (positive where it is met), evaluated for many radii
+at once as numpy arrays (:func:`screen`).  The search never decides feasibility from a
+fixed set of sample radii; it finds, exactly, the set of radii where each rule holds:
 
-1. screening a coarse grid of radii;
-2. bracketing each constraint that changes sign next to the first (or last) feasible
-   grid point, and solving ``margin(R) = 0`` with Brent's method
-   (:func:`helix.roots.brent_root`, checked against ``scipy.optimize.brentq``): the
-   reported radius lies on the binding constraint's boundary, not on a grid point;
-3. verifying the chosen design with the full checker (:func:`helix.evaluate`), which
-   adds the design vehicle's clearances; a failing vehicle check moves the radius to
-   that check's own boundary, again by root finding.
+1. the range is clipped to radii that leave room for the carriageway (said in a note);
+2. rules that depend on the radius alone (kerb radii, lane widths and the design
+   vehicle's swept path, side friction, cross-fall, footprint) are monotone in ``R``:
+   each bounds an interval at one root, found by Brent's method (:mod:`helix.roots`);
+3. each storey's gradient rules depend on that storey's turns and ``R`` only; they are
+   monotone between the radii where the storey's alignment changes form (transitions
+   switching on at the rule's grade-change threshold, landings and transitions ceasing
+   to fit), which are closed forms, so each piece again has one root;
+4. the headroom of a storey depends on the turns of the storeys that can be overhead of
+   it (a turn of plan angle); it is not monotone, so its region is found by
+   :func:`helix.intervals.certified_region` with a bound on how fast the smallest
+   headroom can change with ``R`` (:func:`_headroom_change_bound`);
+5. turns per storey are chosen storey by storey by best-first branch and bound
+   (:func:`search_layout`): a partial choice carries the radii that still meet every
+   rule decided so far, and its bound on the objective never beats its completions;
+6. the chosen design is fully checked (:func:`helix.evaluate`), which adds the design
+   vehicle rolled along the ramp; a failing vehicle clearance moves the radius along the
+   family's feasible radii to its own root.
 
-Layouts that cannot be made to work are explained: every violated constraint, by how
-much, and the smallest single change that would make the layout feasible.
+A layout that cannot work is explained: each constraint that alone blocks it, by how
+much, at the design that meets every other rule, and the change that fixes it, each
+change verified by searching and checking the changed project.
 """
 from __future__ import annotations
 
@@ -26,20 +36,18 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from .batch import BatchProfile, batch_min_headroom, build_profiles
+from .batch import BatchProfile, batch_min_headroom, build_profiles, run_slopes
 from .evaluate import Evaluation, evaluate
+from .intervals import TOL, Interval, IntervalSet, RegionError, certified_region
 from .roots import brent_root
 from .project import Project
 
-__all__ = ["Family", "Screen", "Option", "DesignResult", "families", "screen", "design",
-           "family_project", "pareto_mask", "LAYOUT_TITLES"]
+__all__ = ["Family", "Screen", "Option", "DesignResult", "LayoutSearch", "screen", "design",
+           "search_layout", "storey_choices", "family_project", "pareto_mask", "LAYOUT_TITLES"]
 
 TWO_PI = 2.0 * math.pi
 LAYOUT_TITLES = {"single-one-way": "single helix, one-way", "single-two-way": "single helix, two-way",
                  "double": "double interleaved helix", "concentric": "concentric pair"}
-_CHEAP = ("gradient", "target_gradient", "inner_kerb_radius", "outer_kerb_radius", "lane_width",
-          "lane_width_swept", "side_friction", "footprint", "cross_fall")
-
 
 @dataclass(frozen=True)
 class Family:
@@ -58,25 +66,6 @@ class Family:
     def label(self) -> str:
         turns = "/".join(f"{x:g}" for x in dict.fromkeys(self.turns))  # each value once, in order
         return f"{LAYOUT_TITLES[self.layout]}, {turns} turns per storey"
-
-
-def families(project: Project) -> list[Family]:
-    """Every combination the project's search space allows, in a fixed order."""
-    sp = project.search
-    n = project.storeys
-    out = []
-    for layout in sp.layouts:
-        if sp.turns_choices is None:
-            turn_sets = [project.design.turns_per_storey]
-        else:
-            turn_sets = [(t,) * n for t in sp.turns_choices]
-        for turns in turn_sets:
-            widths = sp.lane_widths
-            if widths is not None:
-                lanes = 2 if layout == "single-two-way" else 1
-                widths = (widths * 2)[:lanes] if len(widths) < lanes else widths[:lanes]
-            out.append(Family(layout, tuple(turns), widths))
-    return out
 
 
 # ----------------------------------------------------------------------------------
@@ -101,8 +90,12 @@ class Screen:
 
 
 def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
-    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement)."""
-    from .turning import lane_width_needed
+    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement).
+
+    Auto widths are exact (no rounding): the inner lane's need depends on where its
+    inner kerb lies, which depends on the widths, so they are the fixed point of that
+    map, reached by iteration (a contraction: the need changes by less than the kerb
+    moves, and the kerb moves by half the width change)."""
     rules = project.rules
     lanes = family.lanes
     if family.lane_widths is not None:
@@ -117,18 +110,17 @@ def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.nda
     central = _central_kerb(project, family)
     v = project.vehicle
     w = np.full((len(radius), lanes), max(rule_min, v.width + 2 * clearance))
-    for _ in range(30):  # fixed point: the inner lane's need depends on its own width
+    for _ in range(200):
         total = w.sum(axis=1) + (central if lanes == 2 else 0.0)
-        inner = radius - 0.5 * total
-        need = np.empty_like(w)
-        edge = inner.copy()
+        edge = radius - 0.5 * total
+        new = np.empty_like(w)
         for j in range(lanes):
-            need[:, j] = _swept_need(v, edge, clearance)
-            edge = edge + w[:, j] + central
-        new = np.maximum(rule_min, np.ceil(need * 100.0) / 100.0)  # whole centimetres
-        if np.array_equal(new, w):
+            new[:, j] = np.maximum(rule_min, _swept_need(v, edge, clearance))
+            edge = edge + new[:, j] + central
+        done = np.max(np.abs(new - w)) <= 1e-12 if len(w) else True
+        w = new
+        if done:
             break
-        w = np.maximum(w, new)
     return w
 
 
@@ -188,9 +180,15 @@ def _batch_length(bp: BatchProfile, r: np.ndarray, a: np.ndarray, b: np.ndarray)
     return np.sum(np.where(np.abs(bp.q) > 1e-15, curved, flat), axis=1)
 
 
-def screen(project: Project, family: Family, radius, with_headroom: bool = True) -> Screen:
+def screen(project: Project, family: Family, radius, with_headroom: bool = True,
+           lower_span: tuple[bool, bool] | None = None) -> Screen:
     """All search margins of ``family`` at every radius in ``radius`` (centre line of
-    the first thread), as arrays."""
+    the first thread), as arrays.
+
+    ``lower_span`` restricts the headroom to the points of the first storey (with the
+    half landing below it, and above it, when the flags say that storey is the
+    building's first or last): the search measures headroom storey by storey on
+    sub-projects of a few storeys."""
     radius = np.atleast_1d(np.asarray(radius, float))
     rules, d, st = project.rules, project.design, project.structure
     v = project.vehicle
@@ -273,7 +271,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
     margins["lane_width_swept"] = swept
     # The same rule as the project loader: the centre-line radius must exceed the
     # carriageway width (so the inner kerb lies at least half a carriageway out).
-    margins["geometry"] = np.where(radius > carriageway, radius - carriageway, -np.inf)
+    margins["geometry"] = radius - carriageway
     if rules.side_friction_max is not None:
         margins["side_friction"] = rules.side_friction_max.value - friction
     if rules.cross_fall_min is not None:
@@ -284,8 +282,14 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
     if with_headroom:
         starts = [d.start_bearing, d.start_bearing + math.pi] if family.layout == "double" else \
             [d.start_bearing] * len(profiles)
+        spans = None
+        if lower_span is not None:
+            first, last = lower_span
+            spans = [(bp.t[:, 0] if first else bp.t[:, 0] + 0.5 * landing_len / rc,
+                      bp.t[:, -1] if (last and n == 1) else bp.t[:, 0] + 0.5 * landing_len / rc + plan[:, 0])
+                     for bp, rc in zip(profiles, thread_rc)]
         head = batch_min_headroom(profiles, starts, d.hand, family.layout != "concentric", st.depth,
-                                  st.cover_soffit)
+                                  st.cover_soffit, spans)
         if rules.clear_height is not None:
             margins["clear_height"] = np.where(np.isfinite(head), head - rules.clear_height.value, np.inf)
     else:
@@ -296,60 +300,613 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
     return Screen(radius, margins, diameter, steep, drive, head, widths.min(axis=1))
 
 
-def _scale(key: str) -> float:
-    """A shortfall that counts as 'one unit' when comparing unlike constraints."""
-    if key.startswith("gradient") or key in ("target_gradient", "cross_fall"):
-        return 0.01  # one percentage point
-    if key == "side_friction":
-        return 0.01
-    return 0.1  # a length: 100 mm
+# ----------------------------------------------------------------------------------
+# Exact feasible radii: what can be built, radius-only rules, each storey's gradient,
+# each storey's headroom
 
 
-def badness(sc: Screen) -> np.ndarray:
-    """How far each screened radius is from feasible: the number of violated
-    constraints, then their shortfalls in comparable units (for the least-bad
-    design of an infeasible layout)."""
-    count = np.zeros(len(sc.radius))
-    total = np.zeros(len(sc.radius))
-    for key, m in sc.margins.items():
-        short = np.where(m < -1e-9, -m, 0.0)
-        count += short > 0
-        total += np.minimum(short / _scale(key), 1e6)
-    return count * 1e7 + total
+#: Margins that depend on the radius and the lane widths only, never on the turns.
+RADIUS_KEYS = ("inner_kerb_radius", "outer_kerb_radius", "lane_width", "lane_width_swept",
+               "side_friction", "cross_fall", "footprint")
+#: The design vehicle's checks that only the full check can run (rolled along the ramp).
+VEHICLE_KEYS = ("underbody_clearance", "roof_clearance")
+#: Turns per storey tried for each layout when the project gives none (the double
+#: helix's thread rises one storey in half a turn; single and concentric helices most
+#: often take a whole turn, less for low storeys, more for tall ones).
+NATURAL_TURNS = {"single-one-way": (0.5, 0.75, 1.0, 1.25, 1.5, 2.0),
+                 "single-two-way": (0.5, 0.75, 1.0, 1.25, 1.5, 2.0),
+                 "concentric": (0.5, 0.75, 1.0, 1.25, 1.5, 2.0),
+                 "double": (0.5, 0.75, 1.0, 1.5)}
+_EDGE = 1e-9  # relative step off a switch radius, to the side it does not belong to
+MARGIN_TOL = 1e-9  # a margin this close to zero is met (as in Screen.feasible)
+
+
+def _widths_for(project: Project, layout: str) -> tuple[float, ...] | None:
+    widths = project.search.lane_widths
+    if widths is None:
+        return None
+    lanes = 2 if layout == "single-two-way" else 1
+    return (widths * 2)[:lanes] if len(widths) < lanes else widths[:lanes]
+
+
+def storey_choices(project: Project, layout: str) -> tuple[tuple[float, ...], ...]:
+    """The turns each storey may take: the project's choices, the layout's usual turns
+    when it gives none, or the fixed turns; all filtered by the connections."""
+    from .project import _turns_fit
+    sp = project.search
+    n = project.storeys
+    conn = project.design.connections
+    if sp.turns_choices is not None:
+        base = tuple(sp.turns_choices)
+    elif sp.turns_free:
+        base = tuple(t for t in NATURAL_TURNS[layout] if _turns_fit(t, conn))
+        if not base:  # pragma: no cover - every connection admits one of the usual turns
+            base = (1.0,)
+    else:
+        return tuple((t,) for t in project.design.turns_per_storey)
+    return (base,) * n
+
+
+def _sub(project: Project, s0: int, s1: int) -> Project:
+    """The storeys ``s0`` to ``s1 - 1`` as a project of their own (levels s0..s1)."""
+    return replace(project, levels=project.levels[s0:s1 + 1])
+
+
+def _batch_margins(project: Project, family: Family, radii: np.ndarray, keys, headroom: bool = False,
+                   lower_span=None) -> dict:
+    sc = screen(project, family, radii, with_headroom=headroom, lower_span=lower_span)
+    return {k: sc.margins[k] for k in keys if k in sc.margins}
+
+
+def _regions_of(margins_fn, keys, a: float, b: float, a_by: str = "", b_by: str = "",
+                probes: int = 17) -> IntervalSet:
+    """Radii of ``[a, b]`` where every margin in ``keys`` is met, each margin monotone
+    on ``[a, b]`` (checked at the probes): one Brent root per margin that changes sign."""
+    if b < a:
+        return IntervalSet()
+    xs = np.linspace(a, b, probes) if b > a else np.array([a])
+    vals = margins_fn(xs)
+    region = IntervalSet.of(a, b, a_by, b_by)
+    for key in keys:
+        if key not in vals:
+            continue
+        ok = vals[key] + MARGIN_TOL >= 0
+        if np.all(ok):
+            continue
+        if not np.any(ok):
+            return IntervalSet()
+        flips = np.flatnonzero(ok[1:] != ok[:-1])
+        if len(flips) > 1:
+            raise RegionError(f"{key}: not monotone on [{a:.6g}, {b:.6g}] m")
+        i = int(flips[0])
+        f = lambda r, key=key: float(margins_fn(np.array([r]))[key][0]) + MARGIN_TOL
+        lo, hi = _boundary(f, float(xs[i]), float(xs[i + 1]))
+        part = IntervalSet.of(a, lo, a_by, key) if ok[0] else IntervalSet.of(hi, b, key, b_by)
+        region = region & part
+        if not region:
+            return region
+    return region
+
+
+def _boundary(f, a: float, b: float) -> tuple[float, float]:
+    """Where ``f`` changes sign between ``a`` and ``b``: the last radius with the sign of
+    ``f(a)`` and the first with the sign of ``f(b)``, both evaluated, about 0.1 um apart."""
+    fa = f(a) >= 0
+    if not (np.isfinite(f(a)) and np.isfinite(f(b))):  # a jump (e.g. to 'cannot be built'): bisect
+        lo, hi = a, b
+        while hi - lo > 0.05 * TOL:
+            mid = 0.5 * (lo + hi)
+            if (f(mid) >= 0) == fa:
+                lo = mid
+            else:
+                hi = mid
+        return lo, hi
+    r = brent_root(f, a, b, xtol=0.02 * TOL, rtol=1e-14)
+    lo = hi = r
+    step = 0.02 * TOL
+    while (f(lo) >= 0) != fa and lo > a:
+        lo = max(a, lo - step)
+        step *= 2
+    step = 0.02 * TOL
+    while (f(hi) >= 0) == fa and hi < b:
+        hi = min(b, hi + step)
+        step *= 2
+    return lo, hi
+
+
+def _carriageway(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
+    widths = _lane_widths(project, family, radius)
+    return widths.sum(axis=1) + (_central_kerb(project, family) if family.lanes == 2 else 0.0)
+
+
+def _buildable(project: Project, family: Family, a: float, b: float) -> tuple[float, float] | None:
+    """The part of ``[a, b]`` whose centre-line radius exceeds the carriageway width
+    (the same rule as the loader: an inner kerb at least half a carriageway out)."""
+    fn = lambda r: {"geometry": np.asarray(r, float) - _carriageway(project, family, np.atleast_1d(r))}
+    region = _regions_of(fn, ["geometry"], a, b)
+    if not region:
+        return None
+    lo = region.lo
+    if float(fn(np.array([lo]))["geometry"][0]) <= 0:  # strictly larger
+        lo = np.nextafter(lo, np.inf)
+    return (lo, region.hi) if lo <= region.hi else None
+
+
+def _thread_centres(project: Project, family: Family, radius: float) -> list[float]:
+    r = np.array([radius])
+    return [float(x[0]) for x in _thread_radii(project, family, r, _carriageway(project, family, r))]
+
+
+def _switch_radii(project: Project, family: Family, rise: float, turns: float, a: float, b: float) -> list[tuple[float, str]]:
+    """Radii of ``[a, b]`` where a storey's alignment changes form: transitions switch on
+    (the grade change reaches the rule's threshold) or landings and transitions stop
+    fitting.  Between them every margin of the storey is continuous in the radius."""
+    d, rules = project.design, project.rules
+    plan = TWO_PI * turns
+    land = d.landing_length if d.landing_length is not None else (
+        rules.landing_length.value if rules.landing_length else 0.0)
+    f = d.landing_fall
+    thread_r: list[tuple[float, str]] = []  # switch radii on a thread's own centre line
+    if d.transition_length is not None:
+        t_len = d.transition_length
+    else:
+        t_len = rules.transition.length if rules.transition else 0.0
+        if rules.transition is not None:
+            thr = rules.transition.when_grade_change_over
+            for g in (f + thr, f - thr):
+                # (H - f L) / (plan R - L) = g on the centre line
+                if abs(g) > 1e-15:
+                    r = ((rise - f * land) / g + land) / plan
+                    if r > 0:
+                        thread_r.append((r, f"transitions needed (grade change reaches "
+                                            f"{100 * thr:.2f} % on a {turns:g}-turn storey)"))
+    for length in sorted({land, land + t_len, land + 2 * t_len}):
+        if length > 0:
+            thread_r.append((length / plan, "landings and transitions fill the storey"))
+    out: list[tuple[float, str]] = []
+    for i, _ in enumerate(_thread_centres(project, family, a)):
+        for rt, label in thread_r:
+            if i == 0:
+                r = rt
+            else:  # the outer helix of a concentric pair: its centre is a function of R
+                g = lambda x: _thread_centres(project, family, x)[i] - rt
+                ga, gb = g(a), g(b)
+                if ga * gb > 0:
+                    continue
+                r = brent_root(g, a, b, xtol=0.01 * TOL, rtol=1e-14)
+            if a < r < b:
+                out.append((r, label))
+    return sorted(out)
+
+
+def _kinks(project: Project, family: Family, a: float, b: float) -> list[tuple[float, str]]:
+    """Radii where auto lane widths change regime: a lane's width leaves the rule
+    minimum for the swept path, or the vehicle reaches its tightest circle (below it
+    the lane widens as fast as the radius shrinks, so the footprint of a concentric
+    pair grows again).  Margins are monotone between these radii."""
+    if family.lane_widths is not None or b <= a:
+        return []
+    from .turning import min_rear_axle_radius
+    rules, v = project.rules, project.vehicle
+    clearance = rules.swept_path_clearance.value if rules.swept_path_clearance else 0.0
+    if family.lanes == 2 and rules.lane_width_two_way is not None:
+        rule_min = 0.5 * rules.lane_width_two_way.value
+    else:
+        rule_min = rules.lane_width_one_way.value if rules.lane_width_one_way is not None else 0.0
+    central = _central_kerb(project, family)
+    rr_min = min_rear_axle_radius(v)
+
+    def terms(r: np.ndarray) -> dict:
+        w = _lane_widths(project, family, r)
+        edge = r - 0.5 * (w.sum(axis=1) + (central if family.lanes == 2 else 0.0))
+        out = {}
+        for j in range(family.lanes):
+            out[f"lane {j + 1} at the rule minimum width"] = _swept_need(v, edge, clearance) - rule_min
+            if rr_min > 0:
+                out[f"lane {j + 1}: the vehicle on its tightest circle"] = edge + clearance + 0.5 * v.width - rr_min
+            edge = edge + w[:, j] + central
+        return out
+
+    xs = np.linspace(a, b, 257)
+    vals = terms(xs)
+    found = []
+    for label, m in vals.items():
+        for i in np.flatnonzero((m[1:] >= 0) != (m[:-1] >= 0)):
+            f = lambda r, label=label: float(terms(np.array([r]))[label][0])
+            found.append((float(brent_root(f, float(xs[i]), float(xs[i + 1]), xtol=0.01 * TOL, rtol=1e-14)), label))
+    return sorted(found)
+
+
+def _pieces(a: float, b: float, cuts: list[tuple[float, str]]) -> list[tuple[float, float, str, str]]:
+    """``[a, b]`` cut at the switch radii, each piece stepped a hair off the cut."""
+    pts = [(a, "")] + [c for c in cuts if a < c[0] < b] + [(b, "")]
+    out = []
+    for (p, pl), (q, ql) in zip(pts, pts[1:]):
+        lo = p + _EDGE * max(1.0, p) if pl else p
+        hi = q - _EDGE * max(1.0, q) if ql else q
+        if hi >= lo:
+            out.append((lo, hi, pl, ql))
+    return out
+
+
+@dataclass
+class LayoutSpace:
+    """One layout's search: its fixed parts and the memo of each storey's regions."""
+
+    project: Project
+    layout: str
+    widths: tuple[float, ...] | None
+    choices: tuple[tuple[float, ...], ...]
+    relax: frozenset
+    base: IntervalSet  # buildable radii of the range that meet every radius-only rule
+    notes: list[str]
+    kinks: list = field(default_factory=list)  # radii where auto lane widths change regime
+    gradient_memo: dict = field(default_factory=dict)
+    headroom_memo: dict = field(default_factory=dict)
+    headroom_cells: dict = field(default_factory=dict)
+    value_memo: dict = field(default_factory=dict)
+    evaluations: int = 0
+
+    def family(self, turns) -> Family:
+        return Family(self.layout, tuple(float(t) for t in turns), self.widths)
+
+    def points(self, region: IntervalSet) -> list[float]:
+        """The ends of the parts of ``region`` and the kinks inside them."""
+        pts = []
+        for part in region.parts:
+            pts += [part.lo, part.hi] + [k for k, _ in self.kinks if part.lo < k < part.hi]
+        return pts
+
+    def diameter(self, r: float) -> float:
+        if r not in self.value_memo:
+            sub = _sub(self.project, 0, 1)
+            fam = Family(self.layout, (max(self.choices[0]),), self.widths)
+            self.value_memo[r] = float(screen(sub, fam, [r], with_headroom=False).diameter[0])
+        return self.value_memo[r]
+
+    def storey_value(self, s: int, t: float, r: float, what: str) -> float:
+        """Drive length (m) or steepest inner gradient of storey ``s`` at radius ``r``."""
+        p = self.project
+        key = (round(p.levels[s + 1].level - p.levels[s].level, 9), t, r, what)
+        if key not in self.value_memo:
+            sc = screen(_sub(p, s, s + 1), Family(self.layout, (t,), self.widths), [r], with_headroom=False)
+            self.value_memo[key] = float(sc.drive[0] if what == "drive" else sc.steepest["inner"][0])
+        return self.value_memo[key]
+
+    # --- each storey's gradient rules ------------------------------------------------
+    def gradient_region(self, s: int, turns: float) -> IntervalSet:
+        p = self.project
+        rise = p.levels[s + 1].level - p.levels[s].level
+        key = (round(rise, 9), turns)
+        if key not in self.gradient_memo:
+            sub = _sub(p, s, s + 1)
+            fam = Family(self.layout, (turns,), self.widths)
+            keys = [g.check_id for g in p.rules.gradient] + ["target_gradient"]
+            keys = [k for k in keys if k not in self.relax]
+            keys.append("buildable")  # landings and transitions fit
+
+            def fn(r):
+                sc = screen(sub, fam, r, with_headroom=False)
+                m = {k: sc.margins[k] for k in keys if k in sc.margins}
+                m["buildable"] = np.where(np.isfinite(sc.steepest["inner"]), 1.0, -1.0)
+                return m
+
+            parts = []
+            for seg in self.base.parts:
+                cuts = sorted(_switch_radii(p, fam, rise, turns, seg.lo, seg.hi) + self.kinks)
+                for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, cuts):
+                    r = _regions_of(fn, keys, lo, hi, lb or seg.lo_by if lo == seg.lo else lb,
+                                    hb or seg.hi_by if hi == seg.hi else hb)
+                    parts.extend(r.parts)
+            self.gradient_memo[key] = IntervalSet.union_of(parts)
+        return self.gradient_memo[key]
+
+    # --- each storey's headroom ------------------------------------------------------
+    def headroom_key(self, s: int, j: int, turns: tuple[float, ...]) -> tuple:
+        p = self.project
+        levels = [lv.level for lv in p.levels[s:j + 2]]
+        return (tuple(round(h, 9) for h in np.diff(levels)), tuple(turns), s == 0, j == p.storeys - 1,
+                None if p.structure.cover_soffit is None else round(p.structure.cover_soffit - levels[0], 9))
+
+    def headroom_region(self, s: int, j: int, turns: tuple[float, ...]) -> IntervalSet | None:
+        """Radii where the points of storey ``s`` clear what is overhead, with storeys
+        ``s..j`` (all that can be overhead of storey ``s``) at ``turns``; computed where
+        those storeys' own rules hold.  ``None`` when no headroom rule applies."""
+        p = self.project
+        rule = p.rules.clear_height
+        if rule is None or "clear_height" in self.relax:
+            return None
+        key = self.headroom_key(s, j, turns)
+        if key in self.headroom_memo:
+            return self.headroom_memo[key]
+        over = self.base
+        for i, t in enumerate(turns):
+            over = over & self.gradient_region(s + i, t)
+        levels = [lv.level for lv in p.levels[s:j + 2]]
+        sub = _sub(p, s, j + 1)
+        fam = Family(self.layout, tuple(turns), self.widths)
+        span = (s == 0, j == p.storeys - 1)
+
+        def fn(r):
+            self.evaluations += len(r)
+            return screen(sub, fam, r, lower_span=span).margins["clear_height"] + MARGIN_TOL
+
+        def bound(lo, hi):
+            return _headroom_change_bound(sub, fam, lo, hi)
+
+        parts, cells = [], []
+        for seg in over.parts:
+            cuts = list(self.kinks)
+            for k, t in enumerate(turns):
+                cuts += _switch_radii(p, fam, levels[k + 1] - levels[k], t, seg.lo, seg.hi)
+            for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, sorted(cuts)):
+                region, c = certified_region(fn, bound, lo, hi, "clear_height")
+                cells += c
+                for q in region.parts:
+                    parts.append(Interval(q.lo, q.hi, q.lo_by or (seg.lo_by if q.lo == seg.lo else lb),
+                                          q.hi_by or (seg.hi_by if q.hi == seg.hi else hb)))
+        out = IntervalSet.union_of(parts)
+        self.headroom_memo[key] = out
+        self.headroom_cells[key] = cells
+        return out
+
+
+    def headroom_upper(self, s: int, j: int, turns: tuple[float, ...], region: IntervalSet) -> float:
+        """An upper bound of the headroom of storey ``s`` over ``region`` (from the
+        bounded cells of its region)."""
+        cells = self.headroom_cells.get(self.headroom_key(s, j, turns), [])
+        ups = [c.upper for c in cells if any(c.lo <= q.hi and q.lo <= c.hi for q in region.parts)]
+        limit = self.project.rules.clear_height.value if self.project.rules.clear_height else 0.0
+        return (max(ups) if ups else math.inf) + limit
+
+
+def _profile_parameters(project: Project, family: Family, radius: np.ndarray) -> list[dict]:
+    """Per thread, the quantities that fix its alignment at each radius: landing and
+    transition plan angles, run slopes and landing slope (m/rad), storey plan angles."""
+    d, rules = project.design, project.rules
+    widths = _lane_widths(project, family, radius)
+    central = _central_kerb(project, family)
+    carriageway = widths.sum(axis=1) + (central if family.lanes == 2 else 0.0)
+    levels = np.array([lv.level for lv in project.levels])
+    plan = np.tile(TWO_PI * np.asarray(family.turns, float)[None, :], (len(radius), 1))
+    landing_len = d.landing_length if d.landing_length is not None else (
+        rules.landing_length.value if rules.landing_length else 0.0)
+    out = []
+    for rc in _thread_radii(project, family, radius, carriageway):
+        land = landing_len / rc
+        trans = _transitions(project, family, rc, land)
+        k = run_slopes(np.diff(levels), plan, land, trans, d.landing_fall * rc)
+        out.append({"land": land, "trans": trans, "k": k, "kl": d.landing_fall * rc, "plan": plan})
+    return out
+
+
+def _headroom_change_bound(project: Project, family: Family, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+    """A bound on how much the smallest headroom can change for radii in ``[lo, hi]``.
+
+    On a piece without switches every alignment quantity is monotone in the radius, so
+    its range over the cell is spanned by its values at the ends.  Each storey's level
+    is fixed at its floor connection; away from it the level differs between two radii
+    by at most the integral of the slope difference: the plan angle times the change
+    of the run and landing slopes, plus, where landings and transitions of the two
+    radii do not overlap, their plan-angle difference times the largest slope gap.  A
+    gap changes by at most twice that (the surface and the one above); the ends of the
+    alignment move by half a landing.  A factor of 1.5 covers rounding.
+
+    References
+    ----------
+    R. E. Moore, R. B. Kearfott and M. J. Cloud, *Introduction to Interval Analysis*,
+    SIAM, 2009, chapter 8 (bounding a function over a box).
+    """
+    a = _profile_parameters(project, family, lo)
+    b = _profile_parameters(project, family, hi)
+    total = np.zeros(len(lo))
+    for pa, pb in zip(a, b):
+        dk = np.abs(pa["k"] - pb["k"])
+        dkl = np.abs(pa["kl"] - pb["kl"])[:, None]
+        dland = np.abs(pa["land"] - pb["land"])[:, None]
+        dtau = np.abs(pa["trans"] - pb["trans"])
+        slope = np.maximum(np.abs(pa["k"]), np.abs(pb["k"])) + np.maximum(np.abs(pa["kl"]), np.abs(pb["kl"]))[:, None]
+        per_storey = pa["plan"] * (dk + dkl) + (dland + 2 * dtau) * 2 * slope
+        ends = np.max(slope, axis=1) * dland[:, 0]
+        total = np.maximum(total, 2 * np.max(per_storey, axis=1) + 2 * ends)
+    return 1.5 * np.where(np.isfinite(total), total, np.inf)
 
 
 # ----------------------------------------------------------------------------------
-# Boundaries
-
-
-def _margin_fn(project: Project, family: Family, key: str):
-    heavy = key == "clear_height"
-    return lambda r: float(screen(project, family, [r], with_headroom=heavy).margins[key][0])
-
-
-def _root(project: Project, family: Family, key: str, a: float, b: float) -> float:
-    """Radius where constraint ``key`` changes sign between ``a`` and ``b`` (Brent)."""
-    f = _margin_fn(project, family, key)
-    fa, fb = f(a), f(b)
-    if not (np.isfinite(fa) and np.isfinite(fb)) or fa * fb > 0:
-        # An infeasible-to-feasible jump (e.g. landings that stop fitting): bisect.
-        lo, hi = a, b
-        for _ in range(60):
-            mid = 0.5 * (lo + hi)
-            if (f(mid) >= 0) == (fb >= 0):
-                hi = mid
-            else:
-                lo = mid
-        return hi if fb >= 0 else lo
-    return float(brent_root(f, a, b, xtol=1e-7, rtol=1e-12))
+# Turns per storey: best-first branch and bound over the storeys
 
 
 @dataclass(frozen=True)
-class Candidate:
-    family: Family
-    radius: float
-    binding: str  # the constraint whose boundary fixes the radius, or "search range"
+class LayoutSearch:
+    """The best design of one layout under the objective, from the exact regions."""
+
+    layout: str
+    family: Family | None
+    radius: float | None
+    region: IntervalSet  # every feasible radius of that family (search-level constraints)
+    binding: str
     objective_value: float
+    searched: dict  # what was searched: choices per storey, combinations, nodes, windows
+    notes: tuple[str, ...] = ()
+
+    @property
+    def feasible(self) -> bool:
+        return self.family is not None
+
+
+def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpace:
+    sp = project.search
+    widths = _widths_for(project, layout)
+    choices = storey_choices(project, layout)
+    fam0 = Family(layout, tuple(c[0] for c in choices), widths)
+    notes = []
+    from .units import format_length
+    u = project.units
+    built = _buildable(project, fam0, sp.radius_min, sp.radius_max)
+    if built is None:
+        return LayoutSpace(project, layout, widths, choices, frozenset(relax), IntervalSet(),
+                           [f"no radius of {format_length(sp.radius_min, u)} to {format_length(sp.radius_max, u)} "
+                            "leaves room for the carriageway"])
+    if built[0] > sp.radius_min + TOL:
+        notes.append(f"radius range clipped to {format_length(built[0], u, precision=3)} and up: a smaller "
+                     "centre radius leaves no room for the carriageway")
+    sub = _sub(project, 0, 1)
+    fam1 = Family(layout, (max(choices[0]),), widths)
+    keys = [k for k in RADIUS_KEYS if k not in relax]
+    kinks = _kinks(project, fam1, built[0], built[1])
+    parts = []
+    for lo, hi, lb, hb in _pieces(built[0], built[1], kinks):
+        region = _regions_of(lambda r: _batch_margins(sub, fam1, r, keys), keys, lo, hi,
+                             lb or ("search range (minimum radius)" if built[0] <= sp.radius_min + TOL
+                                    else "geometry") if lo == built[0] else lb,
+                             (hb or "search range (maximum radius)") if hi == built[1] else hb)
+        parts.extend(region.parts)
+    return LayoutSpace(project, layout, widths, choices, frozenset(relax), IntervalSet.union_of(parts),
+                       notes, kinks)
+
+
+def _pinned(project: Project) -> dict[int, float]:
+    return {i: lv.bearing for i, lv in enumerate(project.levels) if lv.bearing is not None and i > 0}
+
+
+def _pin_ok(project: Project, level: int, cum_turns: float, pins: dict[int, float]) -> bool:
+    if level not in pins:
+        return True
+    d = project.design
+    bearing = d.start_bearing + d.hand * TWO_PI * cum_turns
+    diff = (pins[level] - bearing + math.pi) % TWO_PI - math.pi
+    return abs(diff) <= math.radians(0.5)
+
+
+def search_layout(project: Project, layout: str, objective: str | None = None, relax=frozenset(),
+                  max_nodes: int = 20000) -> LayoutSearch:
+    """The best family and radius of ``layout`` under ``objective``, exactly.
+
+    Storey by storey (best-first branch and bound): each node fixes the turns of the
+    storeys below and carries the set of radii that still meet every rule decided so
+    far (radius-only rules, each fixed storey's gradient rules, and the headroom of every
+    storey whose overhead turns are all fixed).  A node's bound never beats what its
+    completions can reach, so the first complete node taken is the optimum.  ``relax``
+    names constraints to leave out (for explanations).
+    """
+    objective = objective or project.search.objective
+    space = _layout_space(project, layout, relax)
+    n = project.storeys
+    choices = space.choices
+    combos = 1
+    for c in choices:
+        combos *= len(c)
+    pins = _pinned(project)
+    searched = {"turns_choices": [list(c) for c in choices], "combinations": combos}
+    if not space.base:
+        searched.update(nodes=0, headroom_windows=0)
+        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(space.notes))
+    min_turns_after = [sum(min(c) for c in choices[s:]) for s in range(n + 1)]
+
+    def value_at(r: float, turns: tuple) -> float:
+        """The objective at ``r`` with the storeys beyond ``turns`` at their least turns
+        (a lower bound over their completions)."""
+        s = len(turns)
+        if objective == "footprint":
+            return space.diameter(r)
+        if objective == "drive":
+            total = sum(space.storey_value(i, t, r, "drive") for i, t in enumerate(turns))
+            total += sum(space.storey_value(i, min(choices[i]), r, "drive") for i in range(s, n))
+            return total / n
+        return max((space.storey_value(i, t, r, "gradient") for i, t in enumerate(turns)), default=0.0)
+
+    def best_point(region: IntervalSet, turns: tuple) -> tuple[float, float]:
+        """The best radius of ``region`` and its value: objectives are monotone between
+        the ends of its parts and the kinks, so one of those is best; of equal values
+        the larger radius (flatter)."""
+        pts = [(value_at(r, turns), -r) for r in space.points(region)]
+        v, neg_r = min(pts)
+        ties = [-q for val, q in pts if val <= v + 1e-9]
+        return v, max(ties)
+
+    def bound(region: IntervalSet, turns: tuple, head_ub: float) -> tuple:
+        lb_turns = sum(turns) + min_turns_after[len(turns)]
+        if objective == "headroom":
+            return (-head_ub, lb_turns)  # an upper bound of the largest headroom
+        return (best_point(region, turns)[0], lb_turns)
+
+    import heapq
+    heap: list = []
+    counter = 0
+    heapq.heappush(heap, (bound(space.base, (), math.inf), counter, (), space.base, 0, math.inf))
+    nodes = 0
+    best = None
+    while heap:
+        key, _, turns, region, pending, head_ub = heapq.heappop(heap)
+        if best is not None and key >= best[0]:
+            break
+        s = len(turns)
+        if s == n:
+            if objective == "headroom":
+                value, r = _best_headroom(space, turns, region)
+                if best is None or (value,) + key[1:] < best[0]:
+                    best = ((value,) + key[1:], turns, region, r)
+                continue
+            best = (key, turns, region, best_point(region, turns)[1])
+            break
+        nodes += 1
+        if nodes > max_nodes:
+            space.notes.append(f"search stopped after {max_nodes} partial designs; the result may not be the optimum")
+            break
+        cum = sum(turns)
+        for t in choices[s]:
+            if not _pin_ok(project, s + 1, cum + t, pins):
+                continue
+            new_turns = turns + (t,)
+            reg = region & space.gradient_region(s, t)
+            # Headroom of every lower storey whose overhead turns are now all fixed.
+            cums = np.concatenate([[0.0], np.cumsum(new_turns)])
+            low = pending
+            ub = head_ub
+            while reg and low <= s and (cums[s + 1] - cums[low + 1] >= 1.0 - 1e-9 or s == n - 1):
+                window = space.headroom_region(low, s, new_turns[low:s + 1])
+                if window is not None:
+                    reg = reg & window
+                    if objective == "headroom" and reg:
+                        ub = min(ub, space.headroom_upper(low, s, new_turns[low:s + 1], reg))
+                low += 1
+            if not reg:
+                continue
+            counter += 1
+            heapq.heappush(heap, (bound(reg, new_turns, ub), counter, new_turns, reg, low, ub))
+    searched.update(nodes=nodes, headroom_windows=len(space.headroom_memo),
+                    headroom_evaluations=space.evaluations)
+    if best is None:
+        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(space.notes))
+    key, turns, region, r = best
+    fam = space.family(turns)
+    binding = region.label_at(r) or next((label for k, label in space.kinks if abs(k - r) <= TOL), "") or (
+        "clear_height (largest headroom)" if objective == "headroom" else "")
+    value = float(_objective(screen(project, fam, [r]), objective)[0])
+    return LayoutSearch(layout, fam, float(r), region, binding, value, searched, tuple(space.notes))
+
+
+def _best_headroom(space: LayoutSpace, turns: tuple, region: IntervalSet) -> tuple[float, float]:
+    """The largest smallest-headroom over ``region`` (negated, to be minimised) and
+    where: sampled on every part, then refined by Brent's method around the best."""
+    from .roots import brent_minimum
+    fam = space.family(turns)
+    best = (math.inf, region.lo)
+    for part in region.parts:
+        xs = np.linspace(part.lo, part.hi, 65) if part.hi > part.lo else np.array([part.lo])
+        h = screen(space.project, fam, xs).headroom
+        i = int(np.argmax(h))
+        r = float(xs[i])
+        if part.hi > part.lo:
+            lo, hi = float(xs[max(i - 1, 0)]), float(xs[min(i + 1, len(xs) - 1)])
+            f = lambda x: -float(screen(space.project, fam, [x]).headroom[0])
+            x = brent_minimum(f, lo, hi, xtol=TOL)[0] if hi > lo else r
+            if -f(x) > h[i]:
+                r = x
+        v = -float(screen(space.project, fam, [r]).headroom[0])
+        if v < best[0]:
+            best = (v, r)
+    return best
 
 
 def _objective(screen_: Screen, objective: str) -> np.ndarray:
@@ -362,42 +919,8 @@ def _objective(screen_: Screen, objective: str) -> np.ndarray:
     return -screen_.headroom  # headroom: largest is best
 
 
-def _best_in_family(project: Project, family: Family, grid: np.ndarray, objective: str,
-                    sc: Screen) -> Candidate | None:
-    """The family's best radius for ``objective``, on a constraint boundary found by
-    root finding between the grid points that bracket it (``sc``: the grid's screen)."""
-    ok = sc.feasible()
-    if not np.any(ok):
-        return None
-    idx = np.flatnonzero(ok)
-    if objective in ("footprint", "drive"):
-        i = int(idx[0])  # both grow with the radius: the smallest feasible radius
-        if i == 0:
-            r, binding = float(grid[0]), "search range (minimum radius)"
-        else:
-            roots = {key: _root(project, family, key, float(grid[i - 1]), float(grid[i]))
-                     for key, m in sc.margins.items() if m[i - 1] < -1e-9}
-            binding = max(roots, key=roots.get)
-            r = roots[binding]
-    elif objective == "gradient":
-        i = int(idx[-1])  # gradient falls with the radius: the largest feasible radius
-        if i == len(grid) - 1:
-            r, binding = float(grid[-1]), "search range (maximum radius)"
-        else:
-            roots = {key: _root(project, family, key, float(grid[i]), float(grid[i + 1]))
-                     for key, m in sc.margins.items() if m[i + 1] < -1e-9}
-            binding = min(roots, key=roots.get)
-            r = roots[binding]
-    else:
-        values = np.where(ok, sc.headroom, -np.inf)
-        i = int(np.argmax(values))
-        r, binding = float(grid[i]), "clear_height (largest headroom)"
-    value = float(_objective(screen(project, family, [r]), objective)[0])
-    return Candidate(family, r, binding, value)
-
-
 # ----------------------------------------------------------------------------------
-# Whole designs
+# Whole designs: the full check of each layout's choice, explanations, ranking
 
 
 def family_project(project: Project, family: Family, radius: float) -> Project:
@@ -412,7 +935,11 @@ def family_project(project: Project, family: Family, radius: float) -> Project:
 
 @dataclass(frozen=True)
 class Option:
-    """The best design of one layout, or why that layout cannot be made to work."""
+    """The best design of one layout, or its least-failing design and why it fails.
+
+    ``evaluation`` is the full check (vehicle included) of the design in the row: the
+    layout's best under the objective, or, when nothing works, the design that meets
+    every rule but the one its first explanation relaxes."""
 
     layout: str
     family: Family | None
@@ -421,6 +948,9 @@ class Option:
     feasible: bool
     explanation: tuple[dict, ...] = ()
     objective_value: float = math.inf
+    searched: dict = field(default_factory=dict)
+    notes: tuple[str, ...] = ()
+    region: tuple[tuple[float, float], ...] = ()  # the family's feasible radii (m)
 
 
 @dataclass(frozen=True)
@@ -429,7 +959,7 @@ class DesignResult:
     options: tuple[Option, ...]  # ranked, feasible first
     best: int | None
     pareto: tuple[dict, ...]  # non-dominated (family, radius) points
-    cloud: tuple[dict, ...] = field(default=(), repr=False)  # every screened feasible point
+    cloud: tuple[dict, ...] = field(default=(), repr=False)  # sampled feasible designs
 
 
 def pareto_mask(points: np.ndarray) -> np.ndarray:
@@ -441,211 +971,263 @@ def pareto_mask(points: np.ndarray) -> np.ndarray:
     return ~np.any(dominates, axis=0)
 
 
-def _grid(project: Project, points: int = 64) -> np.ndarray:
-    sp = project.search
-    if sp.radius_max <= sp.radius_min:
-        return np.array([sp.radius_min])
-    return np.linspace(sp.radius_min, sp.radius_max, points)
+def _vehicle_margin(project: Project, family: Family, r: float) -> float:
+    ev = evaluate(family_project(project, family, r))
+    margins = [c.margin for c in ev.checks if c.id in VEHICLE_KEYS and c.margin is not None]
+    return min(margins) if margins else math.inf
 
 
-def _verify(project: Project, cand: Candidate, grid: np.ndarray) -> tuple[Evaluation | None, Candidate]:
-    """Full check of a screened candidate; a failing vehicle check moves the radius to
-    its boundary (Brent's method on the full check), or rejects the candidate."""
-    ev = evaluate(family_project(project, cand.family, cand.radius))
-    if ev.ok:
-        return ev, cand
-    failing = [c for c in ev.checks if not c.ok]
-    if any(c.id not in ("underbody_clearance", "roof_clearance") for c in failing):
-        return None, cand
-    hi = float(grid[-1])
-    key = failing[0].id
+def _verified(project: Project, layout: str, objective: str | None = None,
+              relax=frozenset()) -> tuple[LayoutSearch, Evaluation | None]:
+    """The layout's search result confirmed by the full check.  Where the design
+    vehicle's rolled clearances (which the search cannot screen) fail, the radius moves
+    along the family's feasible radii to where they pass (the clearances grow with the
+    radius as the grade changes soften; checked at the ends of each part)."""
+    ls = search_layout(project, layout, objective, relax)
+    if not ls.feasible:
+        return ls, None
+    ev = evaluate(family_project(project, ls.family, ls.radius))
+    failing = [c.id for c in ev.checks if not c.ok and c.id not in relax]
+    if not failing:
+        return ls, ev
+    if any(k not in VEHICLE_KEYS for k in failing):
+        note = (f"the full check of the chosen design fails {', '.join(failing)} although the search's "
+                "margins pass; reported as failing")
+        return replace(ls, notes=ls.notes + (note,)), ev
+    fam = ls.family
+    f = lambda r: _vehicle_margin(project, fam, r)
+    low = (ls.objective_value is not None) and (objective or project.search.objective) in ("footprint", "drive")
+    parts = ls.region.parts if low else tuple(reversed(ls.region.parts))
+    for part in parts:
+        a, b = part.lo, part.hi
+        fa, fb = f(a), f(b)
+        if fa < 0 and fb < 0:
+            continue
+        if fa >= 0 and fb >= 0:
+            r = a if low else b
+        else:
+            lo, hi = _boundary(f, a, b)
+            r = hi if fb >= 0 else lo
+            if (fb >= 0) != low:  # the clearance shrinks with the radius there
+                r = a if fa >= 0 else b
+        ev = evaluate(family_project(project, fam, r))
+        if ev.ok:
+            value = float(_objective(screen(project, fam, [r]), objective or project.search.objective)[0])
+            return replace(ls, radius=float(r), binding=failing[0], objective_value=value), ev
+    note = (f"the design vehicle's {', '.join(failing)} fails on every feasible radius of "
+            f"{fam.label()}; other turns per storey were not tried for it")
+    return replace(ls, notes=ls.notes + (note,)), ev
 
-    def margin(r: float) -> float:
-        e = evaluate(family_project(project, cand.family, r))
-        return min(c.margin for c in e.checks if c.id in ("underbody_clearance", "roof_clearance")
-                   and c.margin is not None)
 
-    if margin(hi) < 0 or not screen(project, cand.family, [hi]).feasible()[0]:
-        return None, cand
-    r = float(brent_root(margin, cand.radius, hi, xtol=1e-6))
-    ev = evaluate(family_project(project, cand.family, r))
-    if not ev.ok:
-        return None, cand
-    value = float(_objective(screen(project, cand.family, [r]), project.search.objective)[0])
-    return ev, Candidate(cand.family, r, key, value)
+def _relaxed_objective(key: str) -> str:
+    if key == "footprint":
+        return "footprint"
+    if key == "clear_height":
+        return "headroom"
+    return "gradient"  # everything else improves with the radius: the largest one
 
 
-def _explain(project: Project, layout: str, fams: list[Family], grid: np.ndarray,
-             feasible_layouts: set[str], screens: dict) -> tuple[dict, ...]:
-    """Each violated constraint of the layout, by how much, and the smallest single
-    change that would make the layout feasible.
+def _candidate_keys(project: Project) -> list[str]:
+    keys = ["footprint"] + [g.check_id for g in project.rules.gradient]
+    if project.search.target_gradient is not None:
+        keys.append("target_gradient")
+    keys.append("clear_height")
+    keys += [k for k in RADIUS_KEYS if k != "footprint"]
+    return keys
 
-    For a constraint ``c`` the change is read where every other constraint is met and
-    ``c`` comes closest (its shortfall there is what must give); for the footprint, at
-    the smallest radius that meets every other rule.
-    """
+
+def _changed_project(project: Project, key: str, shortfall: float, ls: LayoutSearch) -> Project | None:
+    """The project changed just enough (plus a hair) to meet ``key`` by ``shortfall``."""
+    from .rules import Limit
+    rules, st, site = project.rules, project.structure, project.site
+    eps = 1e-4
+    if key == "footprint":
+        need = float(screen(project, ls.family, [ls.radius]).diameter[0]) + 2 * site.margin + 1e-3
+        bigger = replace(project, site=replace(site, width=max(site.width, need), depth=max(site.depth, need)))
+        if project.search.range_from_plot:
+            bigger = replace(bigger, search=replace(project.search, radius_max=max(project.search.radius_max,
+                                                                                    0.5 * need)))
+        return bigger
+    if key.startswith("gradient"):
+        limits = tuple(replace(g, by_rise=tuple((h, v + shortfall + eps) for h, v in g.by_rise))
+                       if g.check_id == key else g for g in rules.gradient)
+        return replace(project, rules=replace(rules, gradient=limits))
+    if key == "target_gradient":
+        return replace(project, search=replace(project.search,
+                                               target_gradient=project.search.target_gradient + shortfall + eps))
+    if key == "clear_height":
+        cut = shortfall + 1e-3
+        hanging = max(0.0, st.hanging_depth - cut)
+        slab = st.slab_depth - max(0.0, cut - st.hanging_depth)
+        if slab <= 0:
+            return None
+        return replace(project, structure=replace(st, hanging_depth=hanging, slab_depth=slab))
+    if key in ("inner_kerb_radius", "outer_kerb_radius", "side_friction"):
+        attr = {"side_friction": "side_friction_max"}.get(key, key)
+        lim = getattr(rules, attr)
+        new = lim.value + shortfall + eps if key == "side_friction" else lim.value - shortfall - eps
+        return replace(project, rules=replace(rules, **{attr: Limit(new, lim.source)}))
+    if key == "cross_fall":
+        return replace(project, design=replace(project.design, cross_fall=rules.cross_fall_min.value))
+    if key in ("lane_width", "lane_width_swept") and project.search.lane_widths is not None:
+        widths = tuple(w + shortfall + eps for w in project.search.lane_widths)
+        return replace(project, search=replace(project.search, lane_widths=widths))
+    return None
+
+
+def _change_text(project: Project, key: str, shortfall: float, ls: LayoutSearch) -> str:
     from .units import format_length
     u = project.units
-    ext = np.linspace(grid[0], max(grid[-1] * 3, grid[-1] + 30), 160)
-    # Explain the family that comes closest: the best worst-margin over its radii.
-    fam, sc = min(((f, screens[f]) for f in fams), key=lambda fs: float(np.min(badness(fs[1]))))
-    sce = screen(project, fam, ext)
-    keys = list(sc.margins)
-    worst_i = int(np.argmin(badness(sc)))
-    found: dict[str, dict] = {}
-    for key in keys:
-        if key == "geometry" or np.all(sc.margins[key] >= -1e-9):
+    site = project.site
+    if key == "footprint":
+        need = float(screen(project, ls.family, [ls.radius]).diameter[0]) + 2 * site.margin
+        return (f"a footprint of at least {format_length(need, u)} x {format_length(need, u)} "
+                f"(now {format_length(site.width, u)} x {format_length(site.depth, u)})")
+    if key.startswith("gradient") or key == "target_gradient":
+        return f"allow a gradient {100 * shortfall:.2f} percentage points steeper ({key.replace('_', ' ')})"
+    if key == "clear_height":
+        return (f"a structural depth {format_length(shortfall, u, precision=3)} thinner "
+                f"(now {format_length(project.structure.depth, u)})")
+    if key == "side_friction":
+        return f"a rule set that accepts a side friction {shortfall:.3f} higher"
+    if key in ("inner_kerb_radius", "outer_kerb_radius"):
+        return f"a rule set that accepts a {key.replace('_', ' ')} {format_length(shortfall, u, precision=3)} smaller"
+    if key == "cross_fall":
+        return "the rule set's minimum cross-fall"
+    return f"lanes {format_length(shortfall, u, precision=3)} wider"
+
+
+def _explain(project: Project, layout: str, feasible_layouts: set[str]) -> tuple[tuple[dict, ...], tuple | None]:
+    """Each constraint that alone keeps the layout from working, by how much, and the
+    smallest change that fixes it, each change verified by searching and fully
+    checking the changed project.  Returns the items and the least-failing design
+    ``(family, radius, key)``: that of the first constraint whose relaxation works."""
+    from .units import format_length
+    items: list[dict] = []
+    least = None
+    blocked: list[str] = []
+    for key in _candidate_keys(project):
+        base = project
+        if key == "footprint" and project.search.range_from_plot:
+            # A range taken from the plot grows with it.
+            base = replace(project, search=replace(project.search, radius_max=max(project.search.radius_max, 200.0)))
+        try:
+            ls = search_layout(base, layout, _relaxed_objective(key), relax=frozenset({key}))
+        except RegionError:
             continue
-        grid_m = sce if key == "footprint" else sc
-        rad = grid_m.radius
-        others = [k for k in keys if k != key]
-        ok = np.all(np.vstack([grid_m.margins[k] >= -1e-9 for k in others] or
-                              [np.ones(len(rad), bool)]), axis=0)
-        item: dict = {"constraint": key, "turns_per_storey": fam.turns[0]}
-        if not np.any(ok):
-            # Relaxing this one alone would not do; say so only if it fails where the
-            # layout comes closest.
-            if sc.margins[key][worst_i] < -1e-9:
-                item["change"] = "not enough on its own: other constraints also fail"
-                found[key] = item
+        if not ls.feasible:
             continue
-        # Where the others hold, the radius most favourable to this constraint, on the
-        # others' exact boundary: the smallest radius for the footprint, the largest
-        # for constraints that improve with the radius.
-        m = grid_m.margins[key]
-        improves = m[-1] > m[0]
-        idx = np.flatnonzero(ok)
-        j = int(idx[-1] if improves else idx[0])
-        r = float(rad[j])
-        nb = j + 1 if improves else j - 1
-        if 0 <= nb < len(rad):
-            roots = [_root(project, fam, k, *sorted((float(rad[j]), float(rad[nb]))))
-                     for k in others if grid_m.margins[k][nb] < -1e-9]
-            if roots:
-                r = min(roots) if improves else max(roots)
-        at = screen(project, fam, [r])
-        short = -float(at.margins[key][0])
-        item.update(shortfall=round(short, 4), at_radius_m=round(r, 4))
+        fam, r = ls.family, ls.radius
+        m = screen(project, fam, [r]).margins.get(key)
+        if m is None or m[0] >= -1e-9:
+            continue  # met anyway: this constraint is not what blocks
+        shortfall = float(-m[0])
+        item = {"constraint": key, "shortfall": round(shortfall, 6), "at_radius_m": round(r, 6),
+                "turns_per_storey": list(fam.turns), "change": _change_text(project, key, shortfall, ls)}
         if key == "footprint":
-            need = float(at.diameter[0]) + 2 * project.site.margin
-            item.update(value=round(need, 3),
-                        change=f"a footprint of at least {format_length(need, u)} x {format_length(need, u)} "
-                               f"(now {format_length(project.site.width, u)} x "
-                               f"{format_length(project.site.depth, u)})")
+            item["value"] = round(float(screen(project, fam, [r]).diameter[0]) + 2 * project.site.margin, 4)
         elif key.startswith("gradient") or key == "target_gradient":
-            item.update(value=round(100 * short, 3),
-                        change=f"allow a gradient {100 * short:.2f} percentage points steeper "
-                               f"({key.replace('_', ' ')}), or more turns per storey")
+            item["value"] = round(100 * shortfall, 4)
         elif key == "clear_height":
-            item.update(value=round(project.structure.depth - short, 4),
-                        change=f"a structural depth {format_length(short, u)} thinner (now "
-                               f"{format_length(project.structure.depth, u)}), or fewer turns per storey")
-        elif key in ("inner_kerb_radius", "outer_kerb_radius", "lane_width_swept", "side_friction"):
-            amount = f"{short:.3f}" if key == "side_friction" else format_length(short, u)
-            item.update(change=f"a larger radius, which needs a larger footprint, or a rule set that "
-                               f"accepts {amount} less")
+            item["value"] = round(project.structure.depth - shortfall, 4)
+        changed = _changed_project(project, key, shortfall, ls)
+        if changed is None:
+            item["verified"] = False
+            item["verified_result"] = "not verified: no such change can be made to the project"
         else:
-            item.update(change=f"relax {key.replace('_', ' ')} by {short:.3f}")
-        found[key] = item
-    out = list(found.values())
+            vls, vev = _verified(changed, layout)
+            ok = vls.feasible and vev is not None and vev.ok
+            item["verified"] = bool(ok)
+            if ok:
+                item["verified_result"] = (f"verified: with this change the layout passes every check at centre "
+                                           f"radius {format_length(vls.radius, project.units, precision=3)}, "
+                                           f"turns {'/'.join(f'{t:g}' for t in dict.fromkeys(vls.family.turns))}")
+            else:
+                fails = [c.id for c in vev.checks if not c.ok] if vev is not None else ["no feasible radius"]
+                item["verified_result"] = "with this change alone the layout still fails " + ", ".join(fails)
+        items.append(item)
+        if least is None:
+            least = (fam, r, key)
+    if not items:
+        # No single change suffices: name what fails at the least-bad radius.
+        blocked = [k for k in _candidate_keys(project)]
+        items.append({"constraint": "several", "change": "no single change is enough: relax two or more of "
+                      + ", ".join(blocked[:4]) + "; see the checks of the row"})
+    sp = project.search
+    if sp.turns_choices is not None or not sp.turns_free:
+        wider = replace(project, search=replace(sp, turns_choices=None, turns_free=True))
+        vls, vev = _verified(wider, layout)
+        if vls.feasible and vev is not None and vev.ok:
+            turns = "/".join(f"{t:g}" for t in vls.family.turns)
+            items.append({"constraint": "turns_per_storey", "value": list(vls.family.turns),
+                          "change": f"turns per storey {turns} (outside the choices given)",
+                          "verified": True,
+                          "verified_result": f"verified: passes every check at centre radius "
+                                             f"{format_length(vls.radius, project.units, precision=3)}"})
     if layout.startswith("single") and "double" in feasible_layouts:
-        out.append({"constraint": "layout", "change": "a second thread: a double helix of the same plot works"})
-    from .project import _turns_fit
-    for t in (0.5, 0.75, 1.0, 1.25, 1.5, 2.0):  # turns per storey outside the choices
-        if any(abs(t - f.turns[0]) < 1e-9 for f in fams) or not _turns_fit(t, project.design.connections):
-            continue
-        trial = Family(layout, (t,) * project.storeys, fams[0].lane_widths)
-        if np.any(screen(project, trial, grid).feasible()):
-            out.append({"constraint": "turns_per_storey", "value": t,
-                        "change": f"{t:g} turns per storey instead of {', '.join(f'{f.turns[0]:g}' for f in fams)}"})
-            break
-    return tuple(out)
+        items.append({"constraint": "layout", "change": "a second thread: a double helix of the same plot works",
+                      "verified": True, "verified_result": "verified: the double helix passes every check"})
+    return tuple(items), least
 
 
 def default_space(project: Project):
     """The space ``helix design`` searches when the design section fixes everything:
-    every layout, radii from 3 m to what the footprint could hold, the usual turns per
-    storey allowed by the connections, lane widths from the rules and the vehicle."""
+    every layout, radii from 3 m to what the footprint could hold, each layout's usual
+    turns per storey (storey by storey, as the connections allow), lane widths from the
+    rules and the vehicle."""
     from .project import SEARCH_LAYOUTS
     sp = project.search
-    choices = {"same_side": (1.0, 2.0), "alternate": (0.5, 1.5)}.get(
-        project.design.connections, (0.5, 0.75, 1.0, 1.25, 1.5))
     r_max = max(0.5 * min(project.site.usable), 3.5)
-    return replace(sp, layouts=SEARCH_LAYOUTS, radius_min=3.0, radius_max=r_max, turns_choices=choices,
-                   lane_widths=None, fixed=False)
+    return replace(sp, layouts=SEARCH_LAYOUTS, radius_min=3.0, radius_max=r_max, turns_choices=None,
+                   turns_free=True, lane_widths=None, fixed=False, range_from_plot=True)
 
 
-def design(project: Project, grid_points: int = 64) -> DesignResult:
+def _cloud(project: Project, option: Option) -> list[dict]:
+    out = []
+    fam = option.family
+    for lo, hi in option.region:
+        radii = np.linspace(lo, hi, 25) if hi > lo else np.array([lo])
+        sc = screen(project, fam, radii, with_headroom=False)
+        for j in range(len(radii)):
+            out.append({"layout": option.layout, "turns": list(fam.turns), "radius_m": float(radii[j]),
+                        "diameter_m": float(sc.diameter[j]),
+                        "steepest_inner_pct": 100 * float(sc.steepest["inner"][j]),
+                        "drive_m": float(sc.drive[j])})
+    return out
+
+
+def design(project: Project) -> DesignResult:
     """Search every layout of the project's search space; rank and explain them.
 
     A project whose design section is fully fixed is searched over
     :func:`default_space`."""
     if project.search.fixed:
         project = replace(project, search=default_space(project))
-    sp = project.search
-    objective = sp.objective
-    grid = _grid(project, grid_points)
-    fams = families(project)
-    by_layout: dict[str, list[Family]] = {}
-    for f in fams:
-        by_layout.setdefault(f.layout, []).append(f)
+    objective = project.search.objective
+    results = {}
+    for layout in project.search.layouts:
+        try:
+            results[layout] = _verified(project, layout)
+        except RegionError as exc:  # a margin broke its finder's assumption: say so, do not guess
+            results[layout] = (LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, {},
+                                            (f"the search could not resolve this layout ({exc})",)), None)
+    feasible_layouts = {k for k, (ls, ev) in results.items() if ls.feasible and ev is not None and ev.ok}
     options: list[Option] = []
     cloud: list[dict] = []
-    screens: dict[Family, Screen] = {}  # each family's grid screen, computed once
-    for layout, group in by_layout.items():
-        cands = []
-        for fam in group:
-            sc = screens[fam] = screen(project, fam, grid)
-            c = _best_in_family(project, fam, grid, objective, sc)
-            if c is None:
-                continue
-            cands.append(c)
-            # The family's feasible radii, between its exact boundaries, for the Pareto set.
-            lo = c.radius if objective in ("footprint", "drive") else \
-                _best_in_family(project, fam, grid, "footprint", sc).radius
-            hi = c.radius if objective == "gradient" else _best_in_family(project, fam, grid, "gradient", sc).radius
-            radii = np.linspace(lo, hi, 25) if hi > lo else np.array([lo])
-            sp = screen(project, fam, radii)
-            for j in np.flatnonzero(sp.feasible() | (np.arange(len(radii)) == 0) | (np.arange(len(radii)) == len(radii) - 1)):
-                cloud.append({"layout": layout, "turns": fam.turns[0], "radius_m": float(radii[j]),
-                              "diameter_m": float(sp.diameter[j]),
-                              "steepest_inner_pct": 100 * float(sp.steepest["inner"][j]),
-                              "drive_m": float(sp.drive[j])})
-        chosen = None
-        for cand in sorted(cands, key=lambda c: c.objective_value):
-            ev, cand2 = _verify(project, cand, grid)
-            if ev is not None:
-                chosen = (ev, cand2)
-                break
-        if chosen is not None:
-            ev, cand = chosen
-            options.append(Option(layout, cand.family, ev, cand.binding, True, (), cand.objective_value))
-        else:
-            options.append(Option(layout, group[0], None, "", False))
-    feasible_layouts = {o.layout for o in options if o.feasible}
-    final = []
-    for o in options:
-        if o.feasible:
-            final.append(o)
+    for layout, (ls, ev) in results.items():
+        if layout in feasible_layouts:
+            opt = Option(layout, ls.family, ev, ls.binding, True, (), ls.objective_value, ls.searched,
+                         ls.notes, tuple(ls.region.as_list()))
+            cloud += _cloud(project, opt)
+            options.append(opt)
             continue
-        group = by_layout[o.layout]
-        expl = _explain(project, o.layout, group, grid, feasible_layouts, screens)
-        # The least-bad radius, fully evaluated so the option carries every key.
-        sc_best = None
-        for fam in group:
-            sc = screens[fam]
-            # Only a radius whose carriageway leaves an inner kerb is a helix to show.
-            bad = np.where(sc.margins["geometry"] > 0, badness(sc), np.inf)
-            i = int(np.argmin(bad))
-            if sc_best is None or bad[i] < sc_best[0]:
-                sc_best = (bad[i], fam, float(grid[i]))
-        worst, fam, r = sc_best  # type: ignore[misc]
-        try:  # already failing: the slow vehicle-rolling checks add nothing
-            ev = evaluate(family_project(project, fam, r), vehicle=False) if np.isfinite(worst) else None
-        except ValueError:
-            ev = None
-        final.append(Option(o.layout, fam, ev, "infeasible", False, expl))
-    ranked = sorted(final, key=lambda o: (not o.feasible, o.objective_value))
+        expl, least = _explain(project, layout, feasible_layouts)
+        fam, r = (least[0], least[1]) if least else (ls.family, ls.radius)
+        row_ev = evaluate(family_project(project, fam, r)) if fam is not None else None
+        value = float(_objective(screen(project, fam, [r]), objective)[0]) if fam is not None else math.inf
+        binding = f"least-failing: meets every rule but {least[2]}" if least else "infeasible"
+        options.append(Option(layout, fam, row_ev, binding, False, expl, value, ls.searched, ls.notes))
+    ranked = sorted(options, key=lambda o: (not o.feasible, o.objective_value))
     best = 0 if ranked and ranked[0].feasible else None
     pareto: tuple[dict, ...] = ()
     if cloud:

@@ -305,17 +305,25 @@ def test_tall_ground_storey(tmp_path, capsys):
     assert status == 0
     assert data["headroom_min_m"] == pytest.approx(2.6 - DEPTH, abs=1e-3) and 2.6 - DEPTH >= CLEAR_HEIGHT
 
-    # Expected: a search with the same number of turns in every storey finds nothing
-    # (exit 1): two turns leave 1.30 m between the decks' turns, one turn needs
-    # R >= 6.0 / (2 pi / 12) = 11.46 m, too wide for the 25 m plot.  The explanation asks
-    # for the footprint that radius needs.
+    # Expected: with one turn in every storey nothing fits (exit 1): one turn needs
+    # R >= 6.0 / (2 pi / 12) = 11.46 m for the tall storey, too wide for the 25 m plot.
+    # The explanation asks for the footprint that radius needs.
     status, data, _ = verify_design(capsys, write(tmp_path, "tall-uniform", building(
-        storeys(6.0, 2.6, 2.6, 2.6), search({"choices": [0.5, 1, 1.5, 2]}))), levels)
+        storeys(6.0, 2.6, 2.6, 2.6), search({"choices": [1]}))), levels)
     assert status == 1
     footprint = [e for e in data["options"][0]["explanation"] if e["constraint"] == "footprint"]
     r_min = 6.0 / (2 * math.pi * GRADE_HIGH_RISE)
     need = 2 * (r_min + 3.65 / 2 + CLEARANCE_OUTSIDE + WALL) + 2 * MARGIN
     assert footprint and footprint[0]["value"] == pytest.approx(need, abs=2e-3)
+    # Expected: choosing the turns storey by storey from [0.5, 1, 1.5, 2] finds a design
+    # that passes (exit 0): two turns leave 1.30 m between the decks' turns, so the decks
+    # keep one turn, and the tall storey takes more (a second turn brings it to
+    # 6.0 / (2 x 2 pi R), within 1:12 at the smallest radius the rest allows).
+    status, data, ev = verify_design(capsys, write(tmp_path, "tall-per-storey", building(
+        storeys(6.0, 2.6, 2.6, 2.6), search({"choices": [0.5, 1, 1.5, 2]}))), levels)
+    assert status == 0
+    turns = data["options"][data["best"]]["turns_per_storey"]
+    assert turns[1:] == [1.0, 1.0, 1.0] and turns[0] > 1.0
     # Expected: the search with the turns fixed storey by storey, [2, 1, 1, 1], passes (exit 0).
     status, _, _ = verify_design(capsys, write(tmp_path, "tall-search", building(
         storeys(6.0, 2.6, 2.6, 2.6), search([2, 1, 1, 1]))), levels)
@@ -352,11 +360,18 @@ def test_split_storey(tmp_path, capsys):
     connection_bearings = [math.degrees(float(t.bearing(c))) % 360 for c in t.profile.connections]
     assert connection_bearings == pytest.approx([270.0, 270.0, 90.0, 90.0], abs=1e-6)
 
-    # Expected: the search with one number of turns for every storey finds nothing (exit 1);
-    # with the turns fixed at [1, 0.5, 1] it finds a passing design (exit 0).
-    status, _, _ = verify_design(capsys, write(tmp_path, "split-uniform", building(
+    # Expected: one number of turns for every storey finds nothing (exit 1): one turn
+    # leaves 1.50 - 0.45 = 1.05 m under the half storey's turn, one and a half turns
+    # stack the 3 m storeys 2.0 m apart (1.55 m clear).  Choosing storey by storey from [0.5, 1, 1.5] finds [1, 0.5, 1] (exit 0), as does
+    # the search with those turns fixed.
+    for choice in ([1], [1.5]):
+        status, _, _ = verify_design(capsys, write(tmp_path, "split-uniform", building(
+            SPLIT, search({"choices": choice}))), levels)
+        assert status == 1
+    status, data, _ = verify_design(capsys, write(tmp_path, "split-per-storey", building(
         SPLIT, search({"choices": [0.5, 1, 1.5]}))), levels)
-    assert status == 1
+    assert status == 0
+    assert data["options"][data["best"]]["turns_per_storey"] == [1.0, 0.5, 1.0]
     status, _, _ = verify_design(capsys, write(tmp_path, "split-search", building(SPLIT, search([1, 0.5, 1]))),
                                  levels)
     assert status == 0
@@ -395,7 +410,7 @@ def test_plot_too_small(tmp_path, capsys):
                  # README: design.divider between the helices of a concentric pair, default 0.3 m
                  "concentric": r + 3.65 / 2 + 3.65 + 0.3}[option["layout"]]
         assert item["value"] == pytest.approx(2 * (outer + CLEARANCE_OUTSIDE + WALL) + 2 * MARGIN, abs=2e-3)
-        pitch = 3.0 / item["turns_per_storey"]
+        pitch = 3.0 / item["turns_per_storey"][0]
         assert r >= pitch / (2 * math.pi * GRADE_LOW_RISE) - 1e-3
 
     # Expected: the same with the default search of a fixed design (every layout, lane
