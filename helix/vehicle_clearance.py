@@ -208,6 +208,9 @@ def body_clearances(vehicle: Vehicle, path: PathProfile, s_a, facing: str = "up"
     return out
 
 
+_BLOCK = 20_000  # vehicle positions per block of the grid in minimum_clearance
+
+
 def minimum_clearance(vehicle: Vehicle, path: PathProfile, soffit: Callable | None = None,
                       step: float = 0.1, facings=("up", "down"),
                       focus: float | None = None) -> dict[str, GroundContact]:
@@ -224,10 +227,16 @@ def minimum_clearance(vehicle: Vehicle, path: PathProfile, soffit: Callable | No
     grid = np.arange(lo, hi + step, step)
     found = []
     for facing in facings:
-        for part, (c, _) in body_clearances(vehicle, path, grid, facing, soffit).items():
-            if np.any(np.isfinite(c)):
-                k = int(np.argmin(c))
-                found.append((float(c[k]), part, facing, float(grid[k])))
+        best: dict[str, tuple[float, float]] = {}
+        # In blocks of positions: memory stays bounded however long the thread is.
+        for i in range(0, len(grid), _BLOCK):
+            block = grid[i:i + _BLOCK]
+            for part, (c, _) in body_clearances(vehicle, path, block, facing, soffit).items():
+                if np.any(np.isfinite(c)):
+                    k = int(np.argmin(c))
+                    if part not in best or float(c[k]) < best[part][0]:
+                        best[part] = (float(c[k]), float(block[k]))
+        found += [(c, part, facing, s) for part, (c, s) in best.items()]
     if not found:
         return {}
     floor = min(f[0] for f in found)
