@@ -28,6 +28,9 @@ __all__ = ["Level", "Structure", "Site", "DesignSpec", "SearchSpace", "Project",
 MAX_LEVELS = 200
 #: Smallest storey height: levels closer than this are one level written twice.
 MIN_STOREY = 0.001
+#: Longest thread, in plan along its centre line (200 storeys of one turn at 9 m are
+#: 11 km): the work of the vehicle and headroom checks grows linearly with this length.
+MAX_THREAD_LENGTH = 50_000.0
 
 DEFAULT_RULE_SET = "conservative-default"
 DEFAULT_VEHICLE = "aashto-p"
@@ -532,6 +535,26 @@ def _load_project(path: Path) -> Project:
         raise InputError(shown, "structure.cover_soffit",
                          f"got {structure.cover_soffit:.3f} m; expected a soffit above the top level "
                          f"({levels[-1].level:.3f} m)")
-    return Project(name=name, notes=notes, file=shown, units=units, levels=levels,
-                   structure=structure, site=site, traffic=traffic, vehicle=vehicle,
-                   rules=rules, design=design, search=search)
+    project = Project(name=name, notes=notes, file=shown, units=units, levels=levels,
+                      structure=structure, site=site, traffic=traffic, vehicle=vehicle,
+                      rules=rules, design=design, search=search)
+    _check_extent(project)
+    return project
+
+
+def _check_extent(project: Project) -> None:
+    """Refuse a helix longer than :data:`MAX_THREAD_LENGTH` (the largest radius and
+    turns the design allows, the outer helix of a concentric pair included)."""
+    d, sp = project.design, project.search
+    radius = max(d.centre_radius, sp.radius_max if sp is not None else 0.0)
+    if d.layout == "concentric" or (sp is not None and "concentric" in sp.layouts):
+        radius += d.carriageway_width + d.divider
+    turns = list(d.turns_per_storey)
+    if sp is not None and sp.turns_choices:
+        turns = [max(sp.turns_choices)] * len(turns)
+    length = 2 * math.pi * radius * sum(turns)
+    if length > MAX_THREAD_LENGTH:
+        raise InputError(project.file, "design", f"the helix would be {length / 1000:,.0f} km long in plan along its "
+                         f"centre line ({len(turns)} storeys of up to {max(turns):g} turns at a radius of up to "
+                         f"{radius:.1f} m); expected at most {MAX_THREAD_LENGTH / 1000:g} km (fewer levels, fewer "
+                         "turns per storey or a smaller radius)")

@@ -10,7 +10,6 @@ from __future__ import annotations
 import dataclasses
 import errno
 import json
-import math
 import os
 import random
 import signal
@@ -135,6 +134,15 @@ def test_ten_thousand_levels_do_not_reach_numpy(tmp_path, capsys):
     status, _, err = run(capsys, "check", path, "-o", tmp_path / "out")
     assert status == 2 and "expected at most 200" in one_line(err)
     assert not (tmp_path / "out").exists()
+
+
+def test_a_helix_thousands_of_kilometres_long_is_refused_at_load(tmp_path, capsys):
+    # 199 storeys of 20 turns at 999 m: 25,000 km of ramp, 10^8 vehicle positions.
+    path = project_file(tmp_path, levels=_levels(MAX_LEVELS),
+                        design=dict(BASE["design"], turns_per_storey=20, centre_radius="999 m"))
+    status, _, err = run(capsys, "check", path)
+    assert status == 2 and f"{path}: design: the helix would be 24,982 km long" in one_line(err)
+    assert "expected at most 50 km" in err
 
 
 @pytest.mark.parametrize("spacing", ["1e-9 m", "0.05 m", "1 in", "0 m", "-5 m"])
