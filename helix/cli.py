@@ -77,7 +77,7 @@ def _parser() -> argparse.ArgumentParser:
     return parser
 
 
-from .outputs import MANIFEST, write_outputs  # noqa: E402,F401  (MANIFEST: part of the API)
+from .outputs import MANIFEST, refuse_if_locked, write_outputs  # noqa: E402,F401  (MANIFEST: part of the API)
 
 #: Closest station spacing of the setting-out table: closer adds rows, not information.
 MIN_STATION_SPACING = 0.1
@@ -245,6 +245,8 @@ def main(argv: list[str] | None = None) -> int:
         if not debug:
             mpl_log.setLevel(logging.CRITICAL)
         try:
+            if getattr(args, "output", None):
+                refuse_if_locked(Path(args.output))
             if args.command == "check":
                 return _check(args)
             return _design(args)

@@ -36,7 +36,7 @@ from pathlib import Path
 
 from .errors import InputError, OutputError
 
-__all__ = ["MANIFEST", "JOURNAL", "LOCK", "write_outputs", "recover", "folder_lock"]
+__all__ = ["MANIFEST", "JOURNAL", "LOCK", "write_outputs", "recover", "folder_lock", "refuse_if_locked"]
 
 MANIFEST = ".helix-outputs"
 JOURNAL = ".helix-journal"
@@ -100,6 +100,15 @@ class folder_lock:
         if self.fd is not None:
             os.close(self.fd)  # closing releases the flock
             self.fd = None
+
+
+def refuse_if_locked(directory: Path) -> None:
+    """Raise OutputError at once when another helix run holds ``directory``'s lock, so a
+    run does not compute its outputs only to find it cannot write them.  (The lock
+    itself is taken by :func:`write_outputs`.)"""
+    if (directory / LOCK).is_file():
+        with folder_lock(directory):
+            pass
 
 
 def _write_atomic(path: Path, data: bytes) -> None:

@@ -129,6 +129,21 @@ def test_too_many_levels_are_refused_at_load(tmp_path, capsys):
     assert len(helix.load_project(project_file(tmp_path, "ok.yaml", levels=_levels(MAX_LEVELS))).levels) == MAX_LEVELS
 
 
+def test_two_hundred_levels_are_checked(tmp_path, capsys):
+    # Once 31 s and 1.7 GB; the work is now linear in the levels (benchmarks/levels.py
+    # prints the figures; no timing here).
+    status, out, err = run(capsys, "check", project_file(tmp_path, levels=_levels(MAX_LEVELS)), "--json")
+    result = json.loads(out)
+    assert status in (0, 1) and err == "" and len(result["storeys"]) == MAX_LEVELS - 1
+    assert result["headroom_min_m"] == pytest.approx(3.0 - 0.45, abs=1e-6)  # storey less slab and hanging depth
+
+
+@pytest.mark.parametrize("n", [201, 400])
+def test_hundreds_of_levels_are_refused(tmp_path, capsys, n):
+    status, _, err = run(capsys, "check", project_file(tmp_path, levels=_levels(n)))
+    assert status == 2 and f"levels: got {n} levels; expected at most 200" in one_line(err)
+
+
 def test_ten_thousand_levels_do_not_reach_numpy(tmp_path, capsys):
     path = project_file(tmp_path, levels=_levels(10_000))
     status, _, err = run(capsys, "check", path, "-o", tmp_path / "out")
@@ -582,6 +597,23 @@ def test_sigkill_at_every_step_of_the_rename_phase_leaves_all_old_or_all_new(tmp
     assert outcomes[0] == ("0 journal", "new")  # the journal is the commit point
     assert {o for _, o in outcomes} == {"new"}
     assert any("rename" in label for label, _ in outcomes) and any("remove" in label for label, _ in outcomes)
+
+
+def test_a_second_run_into_a_folder_being_written_stops_with_status_4(tmp_path, capsys):
+    folder = tmp_path / "busy"
+    outputs.write_outputs(folder, OLD)
+    code = CHILD.replace("NEW", str(len(NEW)))
+    proc = subprocess.Popen([sys.executable, "-c", code, str(folder), "0", "0"], stdout=subprocess.PIPE, text=True,
+                            cwd=ROOT)
+    try:
+        assert proc.stdout.readline().startswith("0 journal")  # the child holds the lock, paused
+        status, _, err = run(capsys, "check", METRIC, "-o", folder)
+        assert status == 4 and "locked by another helix run" in one_line(err)
+    finally:
+        proc.kill()
+        proc.wait(timeout=30)
+        proc.stdout.close()
+    assert _all_old_or_all_new(folder) == "new"  # the killed run is finished by the next one
 
 
 def test_sigkill_at_random_moments_leaves_all_old_or_all_new(tmp_path):
