@@ -602,15 +602,16 @@ def _save(fig, fmt: str) -> bytes:
         return _savefig(fig, fmt)
     except (RuntimeError, ValueError, OverflowError) as exc:
         title = fig._suptitle.get_text() if getattr(fig, "_suptitle", None) is not None else "figure"
-        note = plt.figure(figsize=A4_LANDSCAPE)
-        try:
-            note.suptitle(title, x=0.02, ha="left", fontsize=12, fontweight="bold")
-            note.text(0.5, 0.5, "This figure cannot be drawn at the scale of this site and helix\n"
-                      f"(the renderer stopped: {type(exc).__name__}). The checks and tables are unaffected.",
-                      ha="center", va="center", fontsize=11)
-            return _savefig(note, fmt)
-        finally:
-            plt.close(note)
+        with plt.rc_context(STYLE):  # the title holds user text: no mathtext here either
+            note = plt.figure(figsize=A4_LANDSCAPE)
+            try:
+                note.suptitle(title, x=0.02, ha="left", fontsize=12, fontweight="bold")
+                note.text(0.5, 0.5, "This figure cannot be drawn at the scale of this site and helix\n"
+                          f"(the renderer stopped: {type(exc).__name__}). The checks and tables are unaffected.",
+                          ha="center", va="center", fontsize=11)
+                return _savefig(note, fmt)
+            finally:
+                plt.close(note)
 
 
 def figure_bytes(name: str, fig) -> dict[str, bytes]:

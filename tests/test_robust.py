@@ -298,7 +298,7 @@ def test_a_figure_the_renderer_cannot_draw_says_so(monkeypatch):
 
     monkeypatch.setattr(figures, "_savefig", overflow)
     fig = plt.figure()
-    fig.suptitle("Invented park: plan")
+    fig.suptitle(r"Cost $\frac{1}{$ park (invented): plan")  # user text in the title of the note too
     svg = figures._save(fig, "svg")
     plt.close(fig)
     assert svg.startswith(b"<?xml") and calls["n"] == 2
