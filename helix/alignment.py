@@ -17,6 +17,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .errors import DesignError
+
 __all__ = ["Profile", "build_profile", "storey_run_slope", "SEGMENT_KINDS"]
 
 SEGMENT_KINDS = ("landing", "transition", "run")
@@ -158,7 +160,7 @@ def build_profile(levels, plan_angles, landing_angles, transition_angles,
     levels = np.asarray(levels, dtype=float)
     n = len(levels) - 1
     if n < 1 or len(plan_angles) != n or len(landing_angles) != n + 1 or len(transition_angles) != n:
-        raise ValueError("build_profile: inconsistent lengths of levels and storey data")
+        raise DesignError("build_profile: inconsistent lengths of levels and storey data")
     t: list[float] = []
     z0: list[float] = []
     k: list[float] = []
@@ -186,7 +188,7 @@ def build_profile(levels, plan_angles, landing_angles, transition_angles,
         tau = transition_angles[s] if transition_angles[s] > 1e-9 else 0.0
         slope = storey_run_slope(rise, plan_angles[s], landing_angles[s], landing_angles[s + 1], tau, kl)
         if not math.isfinite(slope):
-            raise ValueError(f"storey {s + 1}: landings and transitions leave no room for the run")
+            raise DesignError(f"storey {s + 1}: landings and transitions leave no room for the run")
         a = c0 + 0.5 * landing_angles[s]          # start of the ramp
         b = c1 - 0.5 * landing_angles[s + 1]      # end of the ramp
         if landing_angles[s] > 0 and s > 0:

@@ -1,17 +1,28 @@
 """The ``helix`` command: a thin shell over the Python API.
 
-Exit status: 0 every check passes, 1 a check fails, 2 bad input (one line on stderr).
+Exit status: 0 every check passes, 1 a check fails, 2 bad input, 3 an internal error
+(a bug in helix: one line, the traceback only with ``--debug``), 4 the outputs could
+not be written (permission, full disk, a folder locked by another run).  Statuses 2,
+3 and 4 print exactly one line on standard error; nothing else reaches it (warnings
+of numpy and matplotlib are shown only with ``--debug``).
 """
 from __future__ import annotations
 
 import argparse
-import os
+import contextlib
+import logging
 import sys
-import tempfile
+import traceback
+import warnings
 from pathlib import Path
 
 from . import __version__
-from .errors import InputError
+from .errors import DesignError, InputError, OutputError, clean_text
+
+#: Where a user reports an internal error.
+REPORT_TO = "please report it with the project file to the helix maintainers (see README.md, 'Reporting a problem')"
+
+EXIT_PASS, EXIT_FAIL, EXIT_INPUT, EXIT_INTERNAL, EXIT_OUTPUT = 0, 1, 2, 3, 4
 
 EXAMPLES_DESIGN = """example:
   helix design configs/demo-search.yaml
@@ -26,9 +37,12 @@ def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="helix",
         description="Plan and check the helical ramps of multi-storey car parks.",
-        epilog="Exit status: 0 all checks pass, 1 a check fails, 2 bad input.",
+        epilog="Exit status: 0 all checks pass, 1 a check fails, 2 bad input, 3 internal error, "
+               "4 outputs could not be written.",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--version", action="version", version=f"helix {__version__}")
+    parser.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                        help="on an internal error print the traceback; show warnings")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     check = sub.add_parser("check", help="evaluate the fixed design of a project file",
                            description="Evaluate the fully specified helix of PROJECT and print "
@@ -42,7 +56,9 @@ def _parser() -> argparse.ArgumentParser:
                        help="also check the design against these rule sets (one column each)")
     check.add_argument("--stations", metavar="LENGTH", default=None,
                        help="spacing of the setting-out stations written with -o (default 5 m, "
-                            "or 10 ft for a project in feet)")
+                            "or 10 ft for a project in feet; at least 0.1 m)")
+    check.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                       help="on an internal error print the traceback; show warnings")
     dsg = sub.add_parser("design", help="search the layouts, radii and turns of a project file",
                          description="Search every layout, radius, turns per storey and lane width "
                                      "that PROJECT allows; rank the best design of each layout and "
@@ -56,61 +72,15 @@ def _parser() -> argparse.ArgumentParser:
     dsg.add_argument("--stations", metavar="LENGTH", default=None, help="setting-out station spacing")
     dsg.add_argument("--rules", metavar="A,B,...", default=None,
                      help="also check the chosen design against these rule sets")
+    dsg.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                     help="on an internal error print the traceback; show warnings")
     return parser
 
 
-_UMASK = os.umask(0)
-os.umask(_UMASK)
+from .outputs import MANIFEST, refuse_if_locked, write_outputs  # noqa: E402,F401  (MANIFEST: part of the API)
 
-
-MANIFEST = ".helix-outputs"
-
-
-def write_outputs(directory: Path, files: dict[str, bytes]) -> list[Path]:
-    """Write ``files`` into ``directory`` safely.
-
-    Every file goes to a temporary name in the same folder and is renamed into place
-    only when all of them are written, so a reader never sees half a file and a failed
-    run leaves the previous outputs as they were.  A file of the same name that helix did not
-    write (it is not in the folder's manifest) is never overwritten: the run stops with
-    an input error before writing anything.
-    """
-    if directory.exists() and not directory.is_dir():
-        raise InputError("command line", "-o", f"{directory} is a file; expected a folder")
-    manifest = directory / MANIFEST
-    ours: set[str] = set()
-    if manifest.is_file():
-        ours = set(manifest.read_text(encoding="utf-8").split())
-    clash = sorted(n for n in files if (directory / n).exists() and n not in ours)
-    if clash:
-        raise InputError("command line", "-o", f"{directory / clash[0]} exists and was not written by helix; "
-                         "expected a new folder or one helix wrote before")
-    try:
-        directory.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise InputError("command line", "-o", f"cannot create {directory} ({exc.strerror})") from None
-    files = dict(files)
-    files[MANIFEST] = ("\n".join(sorted(ours | set(files))) + "\n").encode()
-    # Two phases: every file to a temporary name first, then the renames; a failure in
-    # the first phase removes the temporaries and leaves the previous outputs intact.
-    temps: list[tuple[str, str]] = []
-    try:
-        for name, data in files.items():
-            fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=directory)
-            temps.append((tmp, name))
-            with os.fdopen(fd, "wb") as fh:
-                fh.write(data)
-            os.chmod(tmp, 0o666 & ~_UMASK)
-    except BaseException:
-        for tmp, _ in temps:
-            if os.path.exists(tmp):
-                os.unlink(tmp)
-        raise
-    written = []
-    for tmp, name in temps:
-        os.replace(tmp, directory / name)
-        written.append(directory / name)
-    return written
+#: Closest station spacing of the setting-out table: closer adds rows, not information.
+MIN_STATION_SPACING = 0.1
 
 
 def _station_spacing(text: str | None, units: str) -> float:
@@ -121,8 +91,11 @@ def _station_spacing(text: str | None, units: str) -> float:
         value = parse_length(text)
     except UnitError as exc:
         raise InputError("command line", "--stations", str(exc)) from None
-    if not value > 0:
-        raise InputError("command line", "--stations", f"got {text!r}; expected a positive length such as '5 m'")
+    if not value >= MIN_STATION_SPACING:
+        raise InputError("command line", "--stations", f"got {text!r}; expected a length of at least "
+                         f"{MIN_STATION_SPACING:g} m (4 in) such as '5 m'")
+    if value > 1000.0:
+        raise InputError("command line", "--stations", f"got {text!r}; expected a length of at most 1000 m")
     return value
 
 
@@ -135,11 +108,8 @@ def _check(args) -> int:
     if project.search is not None and not project.search.fixed:
         raise InputError(project.file, "design", "has search ranges or choices; expected one fixed "
                          "design for 'helix check' (run 'helix design' to search)")
-    try:
+    with _design_errors(project, "a design whose landings and transitions fit within each storey"):
         result = evaluate(project)
-    except ValueError as exc:  # geometry that cannot be built, e.g. landings too long
-        raise InputError(project.file, "design", f"{exc}; expected a design whose landings and "
-                         "transitions fit within each storey") from None
     comparisons = _comparisons(project, result.helix, args.rules)
     text = to_json(_result_data(result, comparisons))
     if args.output:
@@ -222,11 +192,8 @@ def _design(args) -> int:
     from .search import design
 
     project = load_project(args.project)
-    try:
+    with _design_errors(project, "a search space whose designs can be built"):
         result = design(project)
-    except ValueError as exc:
-        raise InputError(project.file, "design", f"{exc}; expected a search space whose designs can be "
-                         "built") from None
     text = to_json(design_dict(result))
     if args.output:
         from .figures import pareto_figure, figure_bytes
@@ -248,23 +215,61 @@ def _design(args) -> int:
     return 0 if result.best is not None else 1
 
 
+@contextlib.contextmanager
+def _design_errors(project, expected: str):
+    """A design that loads but cannot be built: one input error naming the key."""
+    try:
+        yield
+    except DesignError as exc:
+        raise InputError(project.file, exc.path, f"{exc}; expected {exc.expected or expected}") from None
+
+
+def _error(text: str) -> None:
+    print(clean_text(f"helix: {text}"), file=sys.stderr)
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = _parser()
     args = parser.parse_args(argv)
     if args.command is None:
         parser.print_help()
         return 0
-    try:
-        if args.command == "check":
-            return _check(args)
-        if args.command == "design":
+    debug = getattr(args, "debug", False)
+    with warnings.catch_warnings():
+        if not debug:
+            # A successful run prints its table and nothing else: no numpy or
+            # matplotlib warnings on standard error.
+            warnings.simplefilter("ignore")
+        mpl_log = logging.getLogger("matplotlib")
+        level = mpl_log.level
+        if not debug:
+            mpl_log.setLevel(logging.CRITICAL)
+        try:
+            if getattr(args, "output", None):
+                refuse_if_locked(Path(args.output))
+            if args.command == "check":
+                return _check(args)
             return _design(args)
-    except InputError as exc:
-        print(f"helix: error: {exc.line()}", file=sys.stderr)
-        return 2
-    except KeyboardInterrupt:
-        return 130
-    return 2  # pragma: no cover
+        except InputError as exc:
+            _error(f"error: {exc.line()}")
+            return EXIT_INPUT
+        except OutputError as exc:
+            _error(f"cannot write outputs: {exc.line()}")
+            return EXIT_OUTPUT
+        except KeyboardInterrupt:
+            return 130
+        except BrokenPipeError:  # e.g. 'helix check x.yaml | head': the reader left
+            return EXIT_PASS
+        except (MemoryError, RecursionError, Exception) as exc:
+            if debug:
+                traceback.print_exc()
+            where = traceback.extract_tb(exc.__traceback__)[-1] if exc.__traceback__ else None
+            at = f" in {Path(where.filename).name}:{where.lineno}" if where else ""
+            _error(f"internal error: {type(exc).__name__}{at}: {str(exc)[:200]}; this is a bug in helix, not a "
+                   f"verdict on the design; {REPORT_TO}; run with --debug for the traceback")
+            return EXIT_INTERNAL
+        finally:
+            mpl_log.setLevel(level)
 
 
 if __name__ == "__main__":  # pragma: no cover

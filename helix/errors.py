@@ -5,22 +5,57 @@ Every problem with a project, rule-set or vehicle file becomes one
 
     configs/demo.yaml: levels[3].height: got '-3 m'; expected a positive length ...
 
-The command line prints that line and exits with status 2.
+The command line prints that line and exits with status 2.  A design that loads but
+cannot be built (landings longer than a storey allows, a vehicle that cannot turn on
+the lane) raises :class:`DesignError` with the key path to change; a problem writing
+the outputs raises :class:`OutputError` (exit status 4).
+
+All text from a user's file passes :func:`clean_text` when it is read: control
+characters (NUL, BEL, terminal escape sequences), byte-order marks and other
+invisible format characters are removed, so nothing reaches the terminal, a figure or
+a report raw.
 """
 from __future__ import annotations
 
 import difflib
 import math
+import re
+import unicodedata
 from pathlib import Path
 from typing import Any, Callable, Iterator
 
 from . import units
 
-__all__ = ["InputError", "Node", "MAX_LENGTH"]
+__all__ = ["InputError", "DesignError", "OutputError", "InvalidValue", "require", "finite", "Node", "MAX_LENGTH", "MAX_TEXT", "MAX_NAME",
+           "clean_text"]
 
 #: No length in a car-park helix project comes near this; larger values are typos
 #: (or fuzz) and would only make the geometry code work for nothing.
 MAX_LENGTH = 1000.0
+#: Longest text a file may give (notes, sources) and longest name or title: every name
+#: is drawn on figures and written into tables, so its length bounds their work.
+MAX_TEXT = 2000
+MAX_NAME = 200
+
+# Escape sequences first (ESC [ 3 1 m), so no "[31m" is left behind; then any single
+# control or format character (C0, DEL, C1, byte-order mark, zero-width and bidi marks).
+_ESCAPE = re.compile(r"\x1b(?:\[[0-?]*[ -/]*[@-~]|\][^\x07\x1b]*(?:\x07|\x1b\\)?|[@-Z\\-_])")
+
+
+def clean_text(text: str) -> str:
+    """``text`` without control and format characters; tabs and line breaks become
+    single spaces.  For anything read from a file that may reach a terminal or a
+    figure."""
+    if text.isprintable():
+        return text
+    text = _ESCAPE.sub("", text)
+    out = []
+    for ch in text:
+        if ch in "\t\n\r\x0b\x0c\x85\u2028\u2029":
+            out.append(" ")
+        elif unicodedata.category(ch) not in ("Cc", "Cf", "Cs", "Co", "Cn"):
+            out.append(ch)
+    return re.sub(r" {2,}", " ", "".join(out))
 
 
 class InputError(Exception):
@@ -34,7 +69,53 @@ class InputError(Exception):
 
     def line(self) -> str:
         where = f"{self.file}: {self.path}: " if self.path else f"{self.file}: "
-        return (where + self.message).replace("\n", " ")
+        return clean_text(where + self.message)
+
+
+class DesignError(ValueError):
+    """A design that loads but cannot be built or evaluated; ``path`` is the key of the
+    project file to change (``design`` when no single key is to blame)."""
+
+    def __init__(self, message: str, path: str = "design", expected: str | None = None):
+        self.path = path
+        self.expected = expected
+        super().__init__(message)
+
+
+class InvalidValue(InputError, ValueError):
+    """A dataclass built (from Python, e.g. with ``dataclasses.replace``) with a value
+    the project file could not hold; named by the class and field."""
+
+
+def require(ok: bool, owner: object, field: str, value: Any, expected: str) -> None:
+    """Raise :class:`InvalidValue` unless ``ok``: the check each frozen dataclass runs in
+    ``__post_init__``, so no path through the API builds an invalid project."""
+    if not ok:
+        raise InvalidValue(type(owner).__name__, field, f"got {_short(value)}; expected {expected}")
+
+
+def finite(x: Any, low: float = -math.inf, high: float = math.inf, *, open_low: bool = False) -> bool:
+    """True for a real number (not bool) in ``[low, high]`` (``(low, high]`` with ``open_low``)."""
+    if isinstance(x, bool) or not isinstance(x, (int, float)):
+        return False
+    try:
+        x = float(x)
+    except (OverflowError, TypeError, ValueError):
+        return False
+    return math.isfinite(x) and (x > low if open_low else x >= low) and x <= high
+
+
+class OutputError(Exception):
+    """The outputs cannot be written: permission, full disk, a locked folder.  The
+    command line prints :meth:`line` and exits with status 4."""
+
+    def __init__(self, target: str | Path, message: str):
+        self.target = str(target)
+        self.message = message
+        super().__init__(self.line())
+
+    def line(self) -> str:
+        return clean_text(f"{self.target}: {self.message}")
 
 
 def _short(value: Any) -> str:
@@ -160,11 +241,13 @@ class Node:
     def angle(self) -> float:
         return self._convert(units.parse_angle, "angle")
 
-    def text(self, choices: tuple[str, ...] | None = None) -> str:
-        if not isinstance(self.data, str) or not self.data.strip():
+    def text(self, choices: tuple[str, ...] | None = None, max_chars: int = MAX_TEXT) -> str:
+        if not isinstance(self.data, str) or not clean_text(self.data).strip():
             expected = f"one of {', '.join(choices)}" if choices else "text"
             raise self.error(f"got {_short(self.data)}; expected {expected}")
-        value = self.data.strip()
+        if len(self.data) > max_chars:
+            raise self.error(f"got a text of {len(self.data)} characters; expected at most {max_chars}")
+        value = clean_text(self.data).strip()
         if choices is not None and value not in choices:
             close = difflib.get_close_matches(value, choices, n=1, cutoff=0.5)
             hint = f" (did you mean '{close[0]}'?)" if close else ""

@@ -13,6 +13,7 @@ import numpy as np
 
 from . import checks as ck
 from .clearance import HeadroomPoint, headroom, minimum_headroom
+from .errors import DesignError
 from .geometry import Helix, Thread
 from .layout import build_helix
 from .project import Project
@@ -218,13 +219,50 @@ def _storeys(project: Project, helix: Helix) -> list[StoreyResult]:
     return out
 
 
+def require_own_helix(project: Project, helix: Helix) -> None:
+    """Refuse a helix built for another project: its threads must serve this project's
+    levels, at their levels."""
+    n = len(project.levels)
+    for t in helix.threads:
+        ok = (len(t.levels) >= 2 and all(0 <= i < n for i in t.levels)
+              and len(t.profile.connection_levels) == len(t.levels))
+        if ok:
+            want = np.array([project.levels[i].level for i in t.levels])
+            ok = bool(np.allclose(t.profile.connection_levels, want, rtol=0.0, atol=1e-6))
+        if not ok:
+            raise DesignError(f"the helix's {t.name} does not serve the levels of project {project.name!r}; "
+                              "it was built for another project", "helix",
+                              "a helix built from this project (helix.build_helix(project))")
+
+
+def require_vehicle_fits(project: Project, helix: Helix) -> None:
+    """The design vehicle must be able to run on every lane at all: its wheel paths and
+    body sides at positive radii.  (Whether it fits *well* is the swept-path check.)"""
+    v = project.vehicle
+    track = v.track if v.track is not None else v.width
+    half = 0.5 * max(track, v.width)
+    for t in helix.threads:
+        for lane in t.lanes:
+            r = lane.centre_radius - half
+            if not r > 0:
+                raise DesignError(
+                    f"the design vehicle {v.name} ({format_length(v.width, project.units)} wide) cannot run on "
+                    f"the {lane.name} of the {t.name}: its inner side would be at a radius of "
+                    f"{format_length(r, project.units)}", "design.centre_radius",
+                    f"a centre-line radius that puts each lane's centre more than half the vehicle's width "
+                    f"({format_length(half, project.units)}) from the axis")
+
+
 def evaluate(project: Project, helix: Helix | None = None, vehicle: bool = True) -> Evaluation:
     """Measure and check ``helix`` (default: the project's fixed design).
 
     ``vehicle=False`` leaves out the checks that roll the design vehicle along the
     ramp (underbody and roof clearance), the slow part, for designs already known to
-    fail."""
+    fail.  Raises :class:`~helix.errors.DesignError` for a helix of another project
+    and for a design the vehicle cannot run on at all."""
     helix = build_helix(project) if helix is None else helix
+    require_own_helix(project, helix)
+    require_vehicle_fits(project, helix)
     head = minimum_headroom(helix, project.structure)
     at = None
     if head is not None:

@@ -51,6 +51,10 @@ STYLE = {
     "svg.hashsalt": "helix",
     "svg.fonttype": "path",
     "path.simplify": False,
+    # User text (project and level names) is drawn as written: '$' is a dollar sign,
+    # never the start of mathtext that could fail to parse.
+    "text.parse_math": False,
+    "text.usetex": False,
 }
 A4_LANDSCAPE = (11.69, 8.27)
 
@@ -200,13 +204,18 @@ def plan_figure(ev: Evaluation):
                     bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.85))
         ax.plot(s(cx), s(cy), "+", color="black", ms=8)
         ax.set_aspect("equal")
-        pad = 0.05 * max(W, D)
-        ax.set_xlim(s(-pad), s(W + pad))
-        ax.set_ylim(s(-pad * 2.4), s(D + pad))
+        # The view holds the footprint and the whole helix, whichever is larger: a
+        # helix far bigger than its site is drawn overflowing it, not cut off.
+        R = h.structure_radius
+        x0, x1 = min(0.0, cx - R), max(W, cx + R)
+        y0, y1 = min(0.0, cy - R), max(D, cy + R)
+        pad = 0.05 * max(x1 - x0, y1 - y0)
+        ax.set_xlim(s(x0 - pad), s(x1 + pad))
+        ax.set_ylim(s(y0 - pad * 2.4), s(y1 + pad))
         ax.set_xlabel(f"x ({s.name})")
         ax.set_ylabel(f"y ({s.name})")
         ax.grid(True, lw=0.3, color="#DDDDDD")
-        _scale_bar(ax, s, s(0), s(-pad * 1.5), s(W))
+        _scale_bar(ax, s, s(x0), s(y0 - pad * 1.5), s(x1 - x0))
         from matplotlib.lines import Line2D
         handles, _ = ax.get_legend_handles_labels()
         handles += [Line2D([], [], color=PALETTE["kerb"], lw=1.3, label="kerb"),
@@ -577,13 +586,32 @@ def gradient_figure(ev: Evaluation):
     return fig
 
 
-def _save(fig, fmt: str) -> bytes:
+def _savefig(fig, fmt: str) -> bytes:
     buf = io.BytesIO()
     meta = {"Date": None} if fmt == "svg" else ({"Software": None} if fmt == "png" else
                                                  {"CreationDate": None, "ModDate": None})
     extra = {"pil_kwargs": {"compress_level": 1}} if fmt == "png" else {}
     fig.savefig(buf, format=fmt, dpi=300 if fmt == "png" else 72, metadata=meta, **extra)
     return buf.getvalue()
+
+
+def _save(fig, fmt: str) -> bytes:
+    """``fig`` as ``fmt`` bytes; a figure the renderer cannot draw (a glyph or path
+    beyond its raster at the scale of the site, say) becomes a page that says so."""
+    try:
+        return _savefig(fig, fmt)
+    except (RuntimeError, ValueError, OverflowError) as exc:
+        title = fig._suptitle.get_text() if getattr(fig, "_suptitle", None) is not None else "figure"
+        with plt.rc_context(STYLE):  # the title holds user text: no mathtext here either
+            note = plt.figure(figsize=A4_LANDSCAPE)
+            try:
+                note.suptitle(title, x=0.02, ha="left", fontsize=12, fontweight="bold")
+                note.text(0.5, 0.5, "This figure cannot be drawn at the scale of this site and helix\n"
+                          f"(the renderer stopped: {type(exc).__name__}). The checks and tables are unaffected.",
+                          ha="center", va="center", fontsize=11)
+                return _savefig(note, fmt)
+            finally:
+                plt.close(note)
 
 
 def figure_bytes(name: str, fig) -> dict[str, bytes]:

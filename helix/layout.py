@@ -11,6 +11,7 @@ from dataclasses import replace
 from functools import lru_cache
 
 from .alignment import build_profile, storey_run_slope
+from .errors import DesignError
 from .geometry import TWO_PI, Helix, Lane, Thread
 from .project import DesignSpec, Project
 
@@ -73,12 +74,12 @@ def vehicle_transition(project: Project, spec: DesignSpec, centre_radius: float,
         k = storey_run_slope(rise, plan_angle, landing_below, landing_above, tau,
                              spec.landing_fall * centre_radius)
         if not math.isfinite(k):
-            raise ValueError("the transitions the vehicle needs leave no room for the run")
+            raise DesignError("the transitions the vehicle needs leave no room for the run")
         grade_w = round(k / r_w, 5)  # rounded: storeys of equal rise share one sizing
         fall_w = round(spec.landing_fall * centre_radius / r_w, 5)
         length_w = _shortest(v, grade_w, spec.transition_kind, margin, fall_w)
         if not math.isfinite(length_w):
-            raise ValueError(f"no {spec.transition_kind} transition lets {v.name} clear a change of "
+            raise DesignError(f"no {spec.transition_kind} transition lets {v.name} clear a change of "
                              f"grade of {100 * abs(grade_w - fall_w):.1f} %; use kind 'curve' or a flatter ramp")
         new_tau = length_w / r_w
         if abs(new_tau - tau) < 1e-6:
@@ -103,6 +104,10 @@ def _thread(project: Project, spec: DesignSpec, name: str, centre_radius: float,
             start_bearing: float, traffic: str) -> Thread:
     width = spec.carriageway_width
     inner = centre_radius - 0.5 * width
+    if not inner > 0:
+        raise DesignError(f"the inner kerb of the {name} would be at a radius of {inner:.3f} m",
+                          "design.centre_radius", "a centre-line radius larger than half the carriageway "
+                          f"width ({0.5 * width:.2f} m)")
     levels = [lv.level for lv in project.levels]
     plan = [TWO_PI * t for t in spec.turns_per_storey]
     land = landing_length(project, spec) / centre_radius

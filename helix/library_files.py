@@ -1,14 +1,61 @@
-"""Finding named rule sets and vehicles: next to the project file first, then the
-library that ships with helix (the repository's ``configs/`` folder)."""
+"""Reading YAML files safely, and finding named rule sets and vehicles.
+
+A rule set or vehicle is named either by its library name (``istructe-2011``: a file
+of the library that ships with helix, the repository's ``configs/`` folder) or by a
+path written as a path (``./rules/local.yaml``, ``../shared/van.yaml``,
+``/abs/path.yaml``), relative to the project file's folder.  Anything else is refused,
+so a project file cannot make helix read an arbitrary file by a bare word.
+
+:func:`read_yaml` reads at most :data:`MAX_FILE_BYTES`, refuses anything but a regular
+file (a FIFO would block, ``/dev/zero`` never ends) and refuses duplicate keys, which
+plain YAML loaders resolve silently to the last value.
+"""
 from __future__ import annotations
 
+import os
+import re
+import stat
 from pathlib import Path
 
 import yaml
 
 from .errors import InputError
 
-__all__ = ["library_dirs", "find_named", "available_names", "read_yaml"]
+__all__ = ["library_dirs", "find_named", "available_names", "read_yaml", "is_path_spec", "MAX_FILE_BYTES"]
+
+#: The largest project, rule-set or vehicle file helix reads (the demos are 2 kB).
+MAX_FILE_BYTES = 2 * 1024 * 1024
+
+_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]*$")
+
+
+def is_path_spec(text: str) -> bool:
+    """True for a reference written as a path: ``./x.yaml``, ``../x.yaml``, ``/x.yaml``."""
+    return text.startswith(("./", "../", "/", ".\\", "..\\"))
+
+
+class _UniqueKeyLoader(yaml.SafeLoader):
+    """``yaml.SafeLoader`` that refuses a key given twice in one mapping (merge keys
+    ``<<`` aside: overriding a merged key is what they are for)."""
+
+    def construct_mapping(self, node, deep=False):
+        if isinstance(node, yaml.MappingNode):
+            seen = set()
+            for key_node, _ in node.value:
+                if key_node.tag == "tag:yaml.org,2002:merge":
+                    continue
+                key = self.construct_object(key_node, deep=True)
+                try:
+                    dup = key in seen
+                    seen.add(key)
+                except TypeError:  # an unhashable key: the base class reports it
+                    continue
+                if dup:
+                    shown = key if isinstance(key, str) else repr(key)
+                    raise yaml.constructor.ConstructorError(
+                        None, None, f"duplicate key '{str(shown)[:60]}'; expected each key once in a mapping",
+                        key_node.start_mark)
+        return super().construct_mapping(node, deep)
 
 
 def library_dirs() -> list[Path]:
@@ -17,17 +64,13 @@ def library_dirs() -> list[Path]:
     return [d for d in (here / "library", here.parent / "configs") if d.is_dir()]
 
 
-def _search_dirs(kind: str, project_dir: Path | None) -> list[Path]:
-    dirs = []
-    if project_dir is not None:
-        dirs.append(project_dir / kind)
-    dirs += [d / kind for d in library_dirs()]
-    return dirs
+def _library(kind: str) -> list[Path]:
+    return [d / kind for d in library_dirs()]
 
 
 def available_names(kind: str, project_dir: Path | None = None) -> list[str]:
     names: set[str] = set()
-    for d in _search_dirs(kind, project_dir):
+    for d in _library(kind):
         if d.is_dir():
             names.update(p.stem for p in d.glob("*.yaml"))
     return sorted(names)
@@ -35,36 +78,82 @@ def available_names(kind: str, project_dir: Path | None = None) -> list[str]:
 
 def find_named(kind: str, name: str, project_dir: Path | None,
                file: str, path: str) -> Path:
-    """The file of rule set or vehicle ``name``; ``kind`` is 'rules' or 'vehicles'."""
-    for d in _search_dirs(kind, project_dir):
-        candidate = d / f"{name}.yaml"
-        if candidate.is_file():
-            return candidate
-    import difflib
+    """The file of rule set or vehicle ``name``; ``kind`` is 'rules' or 'vehicles'.
+
+    A library name, or a path written as a path (see the module docstring)."""
+    what = "rule set" if kind == "rules" else "vehicle"
+    if is_path_spec(name):
+        base = project_dir if project_dir is not None else Path.cwd()
+        candidate = Path(name) if Path(name).is_absolute() else base / name
+        if candidate.suffix not in (".yaml", ".yml"):
+            raise InputError(file, path, f"got {name!r}; expected a path to a .yaml file")
+        if not candidate.exists():
+            raise InputError(file, path, f"{what} file {name!r} not found (relative to the project file's folder)")
+        return candidate
     names = available_names(kind, project_dir)
+    if _NAME.match(name):
+        for d in _library(kind):
+            candidate = d / f"{name}.yaml"
+            if candidate.is_file():
+                return candidate
+    import difflib
     close = difflib.get_close_matches(name, names, n=1, cutoff=0.5)
     hint = f"did you mean '{close[0]}'?" if close else f"available: {', '.join(names)}"
-    what = "rule set" if kind == "rules" else "vehicle"
-    raise InputError(file, path, f"unknown {what} {name!r}; {hint}")
+    raise InputError(file, path, f"unknown {what} {name[:80]!r}; {hint} (or a path such as './{kind}/my-{kind[:-1] if kind == 'vehicles' else 'rules'}.yaml')")
+
+
+def _read_bounded(path: Path, shown: str) -> bytes:
+    """The bytes of a regular file of at most :data:`MAX_FILE_BYTES`, or one InputError."""
+    try:
+        st = os.stat(path)  # stat, not open: opening a FIFO blocks until a writer comes
+    except FileNotFoundError:
+        raise InputError(shown, "", "file not found") from None
+    except OSError as exc:
+        raise InputError(shown, "", f"cannot be read ({exc.strerror})") from None
+    if stat.S_ISDIR(st.st_mode):
+        raise InputError(shown, "", "is a folder; expected a YAML file")
+    if not stat.S_ISREG(st.st_mode):
+        kind = ("a named pipe (FIFO)" if stat.S_ISFIFO(st.st_mode) else
+                "a device" if stat.S_ISCHR(st.st_mode) or stat.S_ISBLK(st.st_mode) else
+                "a socket" if stat.S_ISSOCK(st.st_mode) else "not a regular file")
+        raise InputError(shown, "", f"is {kind}; expected a regular YAML file")
+    if st.st_size > MAX_FILE_BYTES:
+        raise InputError(shown, "", f"is {st.st_size} bytes; expected a file of at most "
+                         f"{MAX_FILE_BYTES // (1024 * 1024)} MB")
+    try:
+        # O_NONBLOCK: should the file have been swapped for a FIFO since the stat.
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+    except OSError as exc:
+        raise InputError(shown, "", f"cannot be read ({exc.strerror})") from None
+    try:
+        if not stat.S_ISREG(os.fstat(fd).st_mode):
+            raise InputError(shown, "", "is not a regular file; expected a regular YAML file")
+        chunks, size = [], 0
+        while size <= MAX_FILE_BYTES:
+            chunk = os.read(fd, 1 << 16)
+            if not chunk:
+                break
+            chunks.append(chunk)
+            size += len(chunk)
+    except OSError as exc:
+        raise InputError(shown, "", f"cannot be read ({exc.strerror})") from None
+    finally:
+        os.close(fd)
+    if size > MAX_FILE_BYTES:
+        raise InputError(shown, "", f"is more than {MAX_FILE_BYTES // (1024 * 1024)} MB; expected a smaller file")
+    return b"".join(chunks)
 
 
 def read_yaml(path: Path, display: str | None = None):
     """Parse a YAML file safely; any failure becomes one InputError line."""
     shown = display or str(path)
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise InputError(shown, "", "file not found") from None
-    except IsADirectoryError:
-        raise InputError(shown, "", "is a folder; expected a YAML file") from None
-    except OSError as exc:
-        raise InputError(shown, "", f"cannot be read ({exc.strerror})") from None
+    raw = _read_bounded(path, shown)
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise InputError(shown, "", f"is not UTF-8 text (byte {exc.start})") from None
     try:
-        data = yaml.safe_load(text)
+        data = yaml.load(text, Loader=_UniqueKeyLoader)  # noqa: S506 (a SafeLoader)
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         where = f"line {mark.line + 1}, column {mark.column + 1}: " if mark else ""

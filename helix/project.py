@@ -15,13 +15,22 @@ import math
 from dataclasses import dataclass
 from pathlib import Path
 
-from .errors import InputError, Node
+from .errors import MAX_LENGTH, MAX_NAME, InputError, InvalidValue, Node, finite, require
 from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
 from .vehicle import Vehicle, load_vehicle
 
 __all__ = ["Level", "Structure", "Site", "DesignSpec", "SearchSpace", "Project", "load_project",
-           "DEFAULT_RULE_SET", "DEFAULT_VEHICLE"]
+           "DEFAULT_RULE_SET", "DEFAULT_VEHICLE", "MAX_LEVELS"]
+
+#: Most levels one helix may serve: the tallest car parks have a few dozen; the limit
+#: bounds the work (which grows linearly with the levels, see benchmarks/levels.py).
+MAX_LEVELS = 200
+#: Smallest storey height: levels closer than this are one level written twice.
+MIN_STOREY = 0.001
+#: Longest thread, in plan along its centre line (200 storeys of one turn at 9 m are
+#: 11 km): the work of the vehicle and headroom checks grows linearly with this length.
+MAX_THREAD_LENGTH = 50_000.0
 
 DEFAULT_RULE_SET = "conservative-default"
 DEFAULT_VEHICLE = "aashto-p"
@@ -37,6 +46,13 @@ class Level:
     level: float  # finished floor level at the helix connection, m
     bearing: float | None = None  # pinned plan bearing of the connection, rad
 
+    def __post_init__(self):
+        require(isinstance(self.name, str) and 0 < len(self.name.strip()) <= MAX_NAME, self, "name", self.name,
+                f"a name of 1 to {MAX_NAME} characters")
+        require(finite(self.level), self, "level", self.level, "a finite level in metres")
+        require(self.bearing is None or finite(self.bearing), self, "bearing", self.bearing,
+                "None or a finite plan bearing in radians")
+
 
 @dataclass(frozen=True)
 class Structure:
@@ -46,6 +62,15 @@ class Structure:
     hanging_depth: float = 0.0  # downstand beams, services, signs below the slab
     wall_thickness: float = 0.0  # outer wall of the helix
     cover_soffit: float | None = None  # underside of a roof or deck over the helix
+
+    def __post_init__(self):
+        require(finite(self.slab_depth, 0, MAX_LENGTH, open_low=True), self, "slab_depth", self.slab_depth,
+                "a positive depth in metres")
+        for key in ("hanging_depth", "wall_thickness"):
+            require(finite(getattr(self, key), 0, MAX_LENGTH), self, key, getattr(self, key),
+                    "a depth of zero or more in metres")
+        require(self.cover_soffit is None or finite(self.cover_soffit), self, "cover_soffit", self.cover_soffit,
+                "None or a finite level in metres")
 
     @property
     def depth(self) -> float:
@@ -58,6 +83,13 @@ class Site:
     width: float  # along plan x
     depth: float  # along plan y
     margin: float = 0.0  # kept clear inside the footprint edges
+
+    def __post_init__(self):
+        for key in ("width", "depth"):
+            require(finite(getattr(self, key), 0, MAX_LENGTH, open_low=True), self, key, getattr(self, key),
+                    "a positive length in metres")
+        require(finite(self.margin, 0) and 2 * self.margin < min(self.width, self.depth), self, "margin",
+                self.margin, "a margin of zero or more, smaller than half the footprint")
 
     @property
     def usable(self) -> tuple[float, float]:
@@ -85,6 +117,33 @@ class DesignSpec:
     transition_auto: bool = False  # size transitions for the design vehicle
     connections: str = "free"  # "free", "same_side" or "alternate"
     keep_right: bool = True  # two-way traffic keeps right
+
+    def __post_init__(self):
+        require(self.layout in LAYOUT_CHOICES, self, "layout", self.layout, f"one of {', '.join(LAYOUT_CHOICES)}")
+        require(finite(self.centre_radius, 0, MAX_LENGTH, open_low=True), self, "centre_radius",
+                self.centre_radius, "a positive radius in metres")
+        require(isinstance(self.lane_widths, tuple) and len(self.lane_widths) in (1, 2) and
+                all(finite(w, 0, MAX_LENGTH, open_low=True) for w in self.lane_widths), self, "lane_widths",
+                self.lane_widths, "one or two positive widths in metres")
+        require(isinstance(self.turns_per_storey, tuple) and len(self.turns_per_storey) >= 1 and
+                all(finite(t, 0, 20, open_low=True) for t in self.turns_per_storey), self, "turns_per_storey",
+                self.turns_per_storey, "positive turns, at most 20, one per storey")
+        for key in ("central_kerb", "divider"):
+            require(finite(getattr(self, key), 0, MAX_LENGTH), self, key, getattr(self, key),
+                    "a width of zero or more in metres")
+        require(self.hand in (1, -1), self, "hand", self.hand, "1 (anticlockwise) or -1 (clockwise)")
+        require(finite(self.start_bearing), self, "start_bearing", self.start_bearing, "a finite angle in radians")
+        for key in ("landing_length", "transition_length"):
+            v = getattr(self, key)
+            require(v is None or finite(v, 0, MAX_LENGTH), self, key, v, "None or a length of zero or more")
+        require(self.transition_kind in TRANSITION_KINDS, self, "transition_kind", self.transition_kind,
+                f"one of {', '.join(TRANSITION_KINDS)}")
+        require(self.cross_fall is None or finite(self.cross_fall, 0, 1), self, "cross_fall", self.cross_fall,
+                "None or a cross-fall from 0 to 1 (100 %)")
+        require(finite(self.landing_fall, -1, 1), self, "landing_fall", self.landing_fall,
+                "a fall from -1 to 1 (100 %)")
+        require(self.connections in CONNECTION_CHOICES, self, "connections", self.connections,
+                f"one of {', '.join(CONNECTION_CHOICES)}")
 
     @property
     def carriageway_width(self) -> float:
@@ -128,6 +187,27 @@ class Project:
     design: DesignSpec
     search: SearchSpace | None = None
 
+    def __post_init__(self):
+        require(isinstance(self.name, str) and 0 < len(self.name.strip()) <= MAX_NAME, self, "name", self.name,
+                f"a name of 1 to {MAX_NAME} characters")
+        require(self.units in ("metric", "imperial"), self, "units", self.units, "metric or imperial")
+        require(self.traffic in TRAFFIC, self, "traffic", self.traffic, f"one of {', '.join(TRAFFIC)}")
+        levels = self.levels
+        require(isinstance(levels, tuple) and 2 <= len(levels) <= MAX_LEVELS and
+                all(isinstance(lv, Level) for lv in levels), self, "levels", levels,
+                f"a tuple of 2 to {MAX_LEVELS} Level")
+        require(all(b.level > a.level for a, b in zip(levels, levels[1:])), self, "levels",
+                [lv.level for lv in levels], "levels in strictly ascending order")
+        require(len({lv.name for lv in levels}) == len(levels), self, "levels", [lv.name for lv in levels],
+                "a different name for each level")
+        for key, kind in (("structure", Structure), ("site", Site), ("vehicle", Vehicle), ("rules", RuleSet),
+                          ("design", DesignSpec)):
+            require(isinstance(getattr(self, key), kind), self, key, getattr(self, key), f"a {kind.__name__}")
+        require(len(self.design.turns_per_storey) == len(levels) - 1, self, "design.turns_per_storey",
+                self.design.turns_per_storey, f"one value per storey ({len(levels) - 1})")
+        require(self.structure.cover_soffit is None or self.structure.cover_soffit > levels[-1].level, self,
+                "structure.cover_soffit", self.structure.cover_soffit, "a soffit above the top level")
+
     @property
     def storey_heights(self) -> tuple[float, ...]:
         return tuple(b.level - a.level for a, b in zip(self.levels, self.levels[1:]))
@@ -141,6 +221,8 @@ _TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehi
 
 
 def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
+    if isinstance(node.data, list) and len(node.data) > MAX_LEVELS:
+        raise node.error(f"got {len(node.data)} levels; expected at most {MAX_LEVELS}")
     items = list(node.items())
     if len(items) < 2:
         raise node.error(f"got {len(items)} level(s); expected a list of at least two levels")
@@ -150,8 +232,8 @@ def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
     for i, item in enumerate(items):
         item.require_mapping()
         name_node = item.child("name")
-        name = str(name_node.data).strip() if isinstance(name_node.data, (str, int, float)) \
-            and not isinstance(name_node.data, bool) else name_node.text()
+        name = str(name_node.data).strip() if isinstance(name_node.data, (int, float)) \
+            and not isinstance(name_node.data, bool) else name_node.text(max_chars=MAX_NAME)
         if not name:
             raise name_node.error("got an empty name; expected the level's name, e.g. 'Level 2'")
         if name in names:
@@ -169,10 +251,12 @@ def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
         elif ht is not None:
             z = levels[-1].level + ht.length(positive=True)
             imperial |= ht.is_imperial_length()
+            if not z >= levels[-1].level + MIN_STOREY:
+                raise ht.error(f"got {ht.data!r}; expected a storey height of at least {1000 * MIN_STOREY:g} mm")
         elif lv is not None:
             z = lv.length()
             imperial |= lv.is_imperial_length()
-            if z <= levels[-1].level:
+            if not z >= levels[-1].level + MIN_STOREY:
                 raise lv.error(f"got {lv.data!r}, not above {levels[-1].name}; "
                                "expected levels in ascending order")
         else:
@@ -415,16 +499,34 @@ def _rules(node: Node | None, project_dir: Path) -> RuleSet:
                          file=node.file, path=use.path)
 
 
+#: Where a field of each dataclass is written in a project file, for the rare value
+#: the loader lets through and the dataclass refuses (see :func:`helix.errors.require`).
+_KEY_OF = {"Project": "", "Structure": "structure.", "Site": "site.", "Level": "levels", "Vehicle": "vehicle.",
+           "DesignSpec": "design.", "Limit": "rules", "GradientLimit": "rules.gradient"}
+_DESIGN_KEYS = {"lane_widths": "lane_width", "transition_length": "transition.length",
+                "transition_kind": "transition.kind", "cross_fall_inward": "cross_fall_direction"}
+
+
 def load_project(path: str | Path) -> Project:
     """Read and check a project file; see the README for its keys."""
-    path = Path(path)
+    try:
+        return _load_project(Path(path))
+    except InvalidValue as exc:
+        owner = exc.file
+        field = _DESIGN_KEYS.get(exc.path, exc.path) if owner == "DesignSpec" else exc.path
+        key = _KEY_OF.get(owner, "")
+        key = key if owner in ("Level", "Limit", "GradientLimit") else key + field
+        raise InputError(str(path), key, exc.message) from None
+
+
+def _load_project(path: Path) -> Project:
     shown = str(path)
     root = Node(read_yaml(path, shown), shown).require_mapping()
     project_dir = path.resolve().parent
 
     meta = root.child("project")
     meta.require_mapping()
-    name = meta.child("name").text()
+    name = meta.child("name").text(max_chars=MAX_NAME)
     notes_node = meta.child("notes", required=False)
     notes = notes_node.text() if notes_node else ""
     meta.done()
@@ -448,6 +550,26 @@ def load_project(path: str | Path) -> Project:
         raise InputError(shown, "structure.cover_soffit",
                          f"got {structure.cover_soffit:.3f} m; expected a soffit above the top level "
                          f"({levels[-1].level:.3f} m)")
-    return Project(name=name, notes=notes, file=shown, units=units, levels=levels,
-                   structure=structure, site=site, traffic=traffic, vehicle=vehicle,
-                   rules=rules, design=design, search=search)
+    project = Project(name=name, notes=notes, file=shown, units=units, levels=levels,
+                      structure=structure, site=site, traffic=traffic, vehicle=vehicle,
+                      rules=rules, design=design, search=search)
+    _check_extent(project)
+    return project
+
+
+def _check_extent(project: Project) -> None:
+    """Refuse a helix longer than :data:`MAX_THREAD_LENGTH` (the largest radius and
+    turns the design allows, the outer helix of a concentric pair included)."""
+    d, sp = project.design, project.search
+    radius = max(d.centre_radius, sp.radius_max if sp is not None else 0.0)
+    if d.layout == "concentric" or (sp is not None and "concentric" in sp.layouts):
+        radius += d.carriageway_width + d.divider
+    turns = list(d.turns_per_storey)
+    if sp is not None and sp.turns_choices:
+        turns = [max(sp.turns_choices)] * len(turns)
+    length = 2 * math.pi * radius * sum(turns)
+    if length > MAX_THREAD_LENGTH:
+        raise InputError(project.file, "design", f"the helix would be {length / 1000:,.0f} km long in plan along its "
+                         f"centre line ({len(turns)} storeys of up to {max(turns):g} turns at a radius of up to "
+                         f"{radius:.1f} m); expected at most {MAX_THREAD_LENGTH / 1000:g} km (fewer levels, fewer "
+                         "turns per storey or a smaller radius)")

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from .errors import InputError, Node
+from .errors import InputError, Node, finite, require
 from .library_files import find_named, read_yaml
 from .units import format_length, format_speed
 
@@ -30,6 +30,11 @@ class Limit:
     source: str
     preferred: float | None = None
 
+    def __post_init__(self):
+        require(finite(self.value), self, "value", self.value, "a finite number")
+        require(self.preferred is None or finite(self.preferred), self, "preferred", self.preferred,
+                "None or a finite number")
+
 
 @dataclass(frozen=True)
 class GradientLimit:
@@ -44,6 +49,13 @@ class GradientLimit:
     offset: float
     by_rise: tuple[tuple[float, float], ...]
     source: str
+
+    def __post_init__(self):
+        require(self.measured_at in REFERENCE_LINES, self, "measured_at", self.measured_at,
+                f"one of {', '.join(REFERENCE_LINES)}")
+        require(finite(self.offset, 0), self, "offset", self.offset, "an offset of zero or more in metres")
+        require(len(self.by_rise) >= 1 and all(finite(g, 0, 1, open_low=True) for _, g in self.by_rise), self,
+                "by_rise", self.by_rise, "(rise, gradient) pairs with gradients above 0 and at most 1")
 
     def max_for_rise(self, rise: float) -> float:
         for up_to, g in self.by_rise:

@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .errors import InputError, Node, _short
+from .errors import InputError, Node, _short, finite, require
 from .library_files import find_named, read_yaml
 
 __all__ = ["Vehicle", "load_vehicle", "VEHICLE_KEYS"]
@@ -18,6 +18,9 @@ VEHICLE_KEYS = ("length", "width", "height", "wheelbase", "front_overhang", "rea
                 "width_with_mirrors", "track", "ground_clearance", "front_overhang_clearance",
                 "rear_overhang_clearance", "min_turning_radius")
 _REQUIRED = VEHICLE_KEYS[:6]
+#: No road vehicle that uses a car-park ramp comes near this in any dimension (an
+#: articulated lorry is about 16.5 m long); larger values are typos.
+MAX_DIMENSION = 30.0
 
 
 @dataclass(frozen=True)
@@ -39,6 +42,15 @@ class Vehicle:
     notes: str = ""
     sources: dict = field(default_factory=dict, compare=False, hash=False)
 
+    def __post_init__(self):
+        for key in VEHICLE_KEYS:
+            v = getattr(self, key)
+            require((v is None and key not in _REQUIRED) or finite(v, 0, MAX_DIMENSION, open_low=True), self, key,
+                    v, f"a positive length of at most {MAX_DIMENSION:g} m")
+        total = self.front_overhang + self.wheelbase + self.rear_overhang
+        require(abs(total - self.length) <= 0.05 + 1e-9, self, "length", self.length,
+                f"front overhang + wheelbase + rear overhang ({total:.3f} m) within 0.05 m")
+
     def dimensions(self) -> dict[str, float]:
         return {k: getattr(self, k) for k in VEHICLE_KEYS if getattr(self, k) is not None}
 
@@ -52,12 +64,12 @@ def _from_node(root: Node, name: str) -> Vehicle:
         if node is None:
             continue
         if isinstance(node.data, dict):
-            values[key] = node.child("value").length(positive=True)
+            values[key] = node.child("value").length(positive=True, maximum=MAX_DIMENSION)
             src = node.child("source", required=False)
             sources[key] = src.text() if src is not None else "not stated"
             node.done()
         else:
-            values[key] = node.length(positive=True)
+            values[key] = node.length(positive=True, maximum=MAX_DIMENSION)
             sources[key] = "not stated"
     title = root.child("title", required=False)
     notes = root.child("notes", required=False)

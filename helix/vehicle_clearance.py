@@ -68,21 +68,49 @@ class PathProfile:
         """Horizontal positions of the alignment's breakpoints along this path."""
         return self.radius * (self.profile.t - self.profile.start)
 
-    def stationary(self, s_lo: np.ndarray, slope: np.ndarray) -> np.ndarray:
+    def stationary(self, s_lo: np.ndarray, slope: np.ndarray, s_hi: np.ndarray | None = None) -> np.ndarray:
         """For each row, the points where a vertical curve's grade equals ``slope``
         (NaN where there is none): where a straight line parallel to a chord comes
-        closest to, or goes deepest into, a curved profile."""
+        closest to, or goes deepest into, a curved profile.  With ``s_hi``, only the
+        segments overlapping ``[s_lo, s_hi]`` of each row are looked at, so the work
+        stays proportional to the rows, not rows times segments."""
         p = self.profile
-        curved = np.flatnonzero(np.abs(p.q) > 0)
-        if curved.size == 0:
-            return np.full((len(s_lo), 0), np.nan)
         r = self.radius
+        if s_hi is None:
+            curved = np.flatnonzero(np.abs(p.q) > 0)
+            if curved.size == 0:
+                return np.full((len(s_lo), 0), np.nan)
+            seg = np.broadcast_to(curved[None, :], (len(s_lo), curved.size))
+            valid = np.ones(seg.shape, bool)
+        else:
+            seg, valid = _window(self.breaks, s_lo, s_hi, segments=True)
+            valid &= np.abs(p.q[seg]) > 0
         # On segment j the grade is (k_j + q_j u) / r with u the angle from its start.
-        u = (slope[:, None] * r - p.k[curved][None, :]) / p.q[curved][None, :]
-        length = (p.t[curved + 1] - p.t[curved])[None, :]
-        ok = (u >= 0) & (u <= length)
-        s_pt = r * (p.t[curved][None, :] - p.start + u)
+        q = np.where(valid, p.q[seg], 1.0)
+        u = (slope[:, None] * r - p.k[seg]) / q
+        length = p.t[seg + 1] - p.t[seg]
+        ok = valid & (u >= 0) & (u <= length)
+        s_pt = r * (p.t[seg] - p.start + u)
         return np.where(ok, s_pt, np.nan)
+
+
+def _window(breaks: np.ndarray, s_lo: np.ndarray, s_hi: np.ndarray,
+            segments: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """Per row, the indices of the breakpoints inside ``[s_lo, s_hi]`` (or, with
+    ``segments``, of the segments overlapping it), padded to a rectangle; and a mask of
+    the real ones.  A wheelbase spans a few breakpoints however long the thread is."""
+    if segments:
+        n = len(breaks) - 1
+        lo = np.clip(np.searchsorted(breaks, s_lo, side="right") - 1, 0, n - 1)
+        hi = np.clip(np.searchsorted(breaks, s_hi, side="left") - 1, 0, n - 1) + 1
+    else:
+        n = len(breaks)
+        lo = np.searchsorted(breaks, s_lo, side="left")
+        hi = np.searchsorted(breaks, s_hi, side="right")
+    width = int(np.max(hi - lo, initial=0))
+    idx = lo[:, None] + np.arange(width)[None, :]
+    valid = idx < hi[:, None]
+    return np.clip(idx, 0, max(n - 1, 0)), valid
 
 
 @dataclass(frozen=True)
@@ -150,9 +178,10 @@ def body_clearances(vehicle: Vehicle, path: PathProfile, s_a, facing: str = "up"
         # Exact: a line under a piecewise-quadratic profile is deepest at one of its
         # breakpoints or where a vertical curve runs parallel to it.
         slope = uz / us
-        brk = path.breaks[None, :]
-        cand = np.concatenate([s_a[:, None], s_b[:, None], np.broadcast_to(brk, (len(s_a), brk.shape[1])),
-                               path.stationary(s_a, slope)], axis=1)
+        # Only the breakpoints under the wheelbase: linear work in the thread's length.
+        idx, valid = _window(path.breaks, s_a, s_b)
+        brk = np.where(valid, path.breaks[idx], s_a[:, None])
+        cand = np.concatenate([s_a[:, None], s_b[:, None], brk, path.stationary(s_a, slope, s_b)], axis=1)
         inside = (cand >= s_a[:, None]) & (cand <= s_b[:, None])
         cand = np.where(inside, cand, s_a[:, None])
         chord = za[:, None] + slope[:, None] * (cand - s_a[:, None])
@@ -179,6 +208,9 @@ def body_clearances(vehicle: Vehicle, path: PathProfile, s_a, facing: str = "up"
     return out
 
 
+_BLOCK = 20_000  # vehicle positions per block of the grid in minimum_clearance
+
+
 def minimum_clearance(vehicle: Vehicle, path: PathProfile, soffit: Callable | None = None,
                       step: float = 0.1, facings=("up", "down"),
                       focus: float | None = None) -> dict[str, GroundContact]:
@@ -195,10 +227,16 @@ def minimum_clearance(vehicle: Vehicle, path: PathProfile, soffit: Callable | No
     grid = np.arange(lo, hi + step, step)
     found = []
     for facing in facings:
-        for part, (c, _) in body_clearances(vehicle, path, grid, facing, soffit).items():
-            if np.any(np.isfinite(c)):
-                k = int(np.argmin(c))
-                found.append((float(c[k]), part, facing, float(grid[k])))
+        best: dict[str, tuple[float, float]] = {}
+        # In blocks of positions: memory stays bounded however long the thread is.
+        for i in range(0, len(grid), _BLOCK):
+            block = grid[i:i + _BLOCK]
+            for part, (c, _) in body_clearances(vehicle, path, block, facing, soffit).items():
+                if np.any(np.isfinite(c)):
+                    k = int(np.argmin(c))
+                    if part not in best or float(c[k]) < best[part][0]:
+                        best[part] = (float(c[k]), float(block[k]))
+        found += [(c, part, facing, s) for part, (c, s) in best.items()]
     if not found:
         return {}
     floor = min(f[0] for f in found)

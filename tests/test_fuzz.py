@@ -1,4 +1,4 @@
-"""Generated project files through the command line.
+"""Generated project files (and output folders) through the command line.
 
 Whatever the file, ``helix check`` and ``helix design`` return 0 or 1, or 2 with exactly
 one line on standard error that names the file and the key path of the problem (or only
@@ -13,7 +13,12 @@ Three families of files, all invented data:
   nesting, YAML alias bombs and self-referencing values, a non-mapping top level), with
   the key path the error line must name where the fault fixes it;
 * raw files: random bytes and text, empty files, text that is not UTF-8, truncated
-  demos, deep nesting, explicit YAML tags that cannot be constructed, huge integers.
+  demos, deep nesting, explicit YAML tags that cannot be constructed, huge integers,
+  duplicate keys;
+* hostile text (mathtext syntax, control characters and escape sequences, byte-order
+  marks) in names, drawn on figures and printed; huge lists; tiny steps; special files
+  (FIFO, devices, sockets, folders, symlinks to devices); faults in the rename phase
+  of writing the outputs (every file then all old or all new).
 
 ``signal.alarm`` guards every run against a hang; it is not a timing assertion.
 """
@@ -51,7 +56,9 @@ VALID_KEYS = frozenset(TOP_KEYS + (
     "title", "value", "source"))
 #: Messages about the whole file (no key path), from helix.library_files.read_yaml.
 WHOLE_FILE = ("file not found", "is a folder", "cannot be read", "is not UTF-8 text", "YAML does not parse",
-              "YAML nests too deeply", "file is empty", "expected a mapping of keys to values at the top")
+              "YAML nests too deeply", "file is empty", "expected a mapping of keys to values at the top",
+              "is a named pipe", "is a device", "is a socket", "is not a regular file", "is more than",
+              "bytes; expected a file of at most")
 #: Errors that come from building the geometry, reported against the whole design section.
 GEOMETRY_ERRORS = ("expected a design whose landings and transitions fit",
                    "expected a search space whose designs can be built")
@@ -612,7 +619,7 @@ def raw_files(draw):
             depth = min(depth, 1000)
             body = "\n" + "".join(" " * (i + 1) + "a:\n" for i in range(depth)) + " " * (depth + 1) + "b"
         raw = f"{key}: {body}\n".encode()
-        if draw(st.booleans()):  # then the demo, whose own value of the key wins (YAML keeps the last)
+        if draw(st.booleans()):  # then the demo: the key given twice, refused as a duplicate
             raw += b"\n" + demo.encode()
         return raw, None
     if kind == "substitution":
@@ -628,8 +635,8 @@ def raw_files(draw):
     if kind == "encoding":
         codec = draw(st.sampled_from(["utf-16", "utf-32", "utf-8-sig", "latin-1"]))
         return (demo.replace("Street", "Stra\u00dfe") if codec == "latin-1" else demo).encode(codec), None
-    if kind == "duplicate":
-        return (demo + "\nsite: {width: 1 m, depth: 1 m}\n").encode(), None
+    if kind == "duplicate":  # a key given twice is refused, not resolved to the last value
+        return (demo + "\nsite: {width: 1 m, depth: 1 m}\n").encode(), ""
     return draw(st.sampled_from([b"- a\n- b\n", b"[1, 2, 3]\n", b"42\n", b"'text'\n", b"true\n", b"3.0 m\n",
                                  b"!!set {a, b}\n", b"2001-12-14\n"])), ""
 
@@ -651,3 +658,229 @@ def test_raw_files_never_crash(case, tmp_path, capsys):
         assert reported is not None and inside(reported, where[1]), err
     elif where is not None:
         assert reported == where, err
+
+
+# ----------------------------------------------------------------------------------
+# Hostile text, huge lists, tiny steps, special files, faults while renaming outputs
+# (each family is a reproducer of a crash or hang found once; the expectations are
+# the contract above: 0 or 1, or 2 with one line, never a traceback, never a hang).
+
+#: Characters that once crashed or leaked: mathtext syntax, control characters and
+#: escape sequences, byte-order marks and other invisible format characters.
+HOSTILE = ["$", "\\", "{", "}", "^", "_", "\\frac{", "\\alpha_{", "$$", "%", "\x00", "\x07", "\x08", "\x1b[31m",
+           "\x1b]0;x\x07", "\x7f", "\x9b", "\ufeff", "\u200b", "\u202e", "\u2028", "\t", "\r", "\n", "Ω", "ß", "–",
+           "车", "\U0001F697", " "]
+
+
+@st.composite
+def hostile_names(draw):
+    parts = draw(st.lists(st.sampled_from(HOSTILE) | st.text("abcXYZ019 ", min_size=1, max_size=4),
+                          min_size=1, max_size=12))
+    return "".join(parts)
+
+
+@settings(max_examples=25, **FUZZ)
+@given(project_name=hostile_names(), level_names=st.lists(hostile_names(), min_size=4, max_size=4, unique=True),
+       notes=hostile_names())
+def test_hostile_text_is_drawn_and_printed_clean(project_name, level_names, notes, tmp_path, capsys):
+    import matplotlib.pyplot as plt
+
+    from helix.errors import clean_text
+    from helix.figures import plan_figure, section_figure
+    data = copy.deepcopy(DEMOS["demo-metric"])
+    data["project"] = {"name": project_name, "notes": notes}
+    for level, name in zip(data["levels"][1:], level_names):
+        level["name"] = name
+    file = tmp_path / "hostile.yaml"
+    file.write_text(yaml.safe_dump(data, allow_unicode=True), encoding="utf-8")
+    status, out, err = run_cli(capsys, ["check", str(file)])
+    judge(status, out, err, str(file))
+    assert not any(ord(c) < 32 and c != "\n" or 0x7F <= ord(c) < 0xA0 for c in out + err), (out + err)[:300]
+    assert "\x1b" not in out + err and "\ufeff" not in out + err
+    if status == 2:  # a name that cleans to nothing, or two levels that clean alike
+        return
+    import helix
+    ev = helix.evaluate(helix.load_project(file), vehicle=False)
+    assert ev.project.name == clean_text(project_name).strip()
+    import warnings
+    for make in (plan_figure, section_figure):
+        fig = make(ev)
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")  # glyphs DejaVu Sans lacks (CJK, emoji) are drawn as boxes
+                fig.canvas.draw()  # mathtext, when it is on, fails here
+        finally:
+            plt.close(fig)
+
+
+@st.composite
+def huge_lists(draw):
+    data = copy.deepcopy(DEMOS["demo-metric"])
+    n = draw(st.sampled_from([201, 1000, 10_000]))
+    where = draw(st.sampled_from(["levels", "turns", "lanes", "bearing_levels"]))
+    if where == "levels":
+        data["levels"] = [{"name": "L0", "level": "0 m"}] + [{"name": f"L{i}", "height": "3 m"} for i in range(1, n)]
+        return data, "levels"
+    if where == "bearing_levels":
+        data["levels"] = [{"name": f"L{i}", "level": f"{3 * i} m", "bearing": "0 deg"} for i in range(n)]
+        return data, "levels"
+    if where == "turns":
+        data["design"]["turns_per_storey"] = [1] * n
+        return data, "design.turns_per_storey"
+    data["design"]["lane_width"] = ["3 m"] * n
+    return data, "design.lane_width"
+
+
+@settings(max_examples=6, **FUZZ)
+@given(case=huge_lists())
+def test_huge_lists_are_refused_in_bounded_time(case, tmp_path, capsys):
+    data, where = case
+    file = tmp_path / "huge.yaml"
+    file.write_text(yaml.safe_dump(data), encoding="utf-8")
+    reported, err, _ = exercise(capsys, file, run_design=False, use_json=False)
+    assert reported == where, err
+
+
+@st.composite
+def tiny_steps(draw):
+    data = copy.deepcopy(DEMOS["demo-metric"])
+    tiny = draw(st.sampled_from(["1e-9 m", "1e-300 m", "0.0001 mm", "5e-324", "0.00001 in", "0.0009 m"]))
+    where = draw(st.sampled_from(["stations", "height", "level"]))
+    if where == "stations":
+        spacing = draw(st.sampled_from([tiny, "0.0999 m", "3 in", "1 mm"]))
+        return data, ["--stations", spacing, "-o", "{out}"], "--stations"
+    if where == "height":
+        data["levels"][2] = {"name": "Level 2", "height": tiny}
+        return data, [], "levels[2].height"
+    data["levels"][2] = {"name": "Level 2", "level": f"{3.0 + float(tiny.split()[0]) * 1e-3:.17g} m"}
+    return data, [], "levels[2].level"
+
+
+@settings(max_examples=12, **FUZZ)
+@given(case=tiny_steps())
+def test_tiny_steps_are_refused(case, tmp_path, capsys):
+    data, extra, where = case
+    file = tmp_path / "tiny.yaml"
+    file.write_text(yaml.safe_dump(data), encoding="utf-8")
+    out = tmp_path / "out"
+    args = ["check", str(file)] + [a.replace("{out}", str(out)) for a in extra]
+    status, stdout, err = run_cli(capsys, args)
+    assert status == 2 and err.count("\n") == 1, err
+    assert f": {where}: " in err, err
+    assert not out.exists()
+
+
+SPECIAL = ["fifo", "dev_zero", "dev_urandom", "dev_null", "folder", "socket", "symlink_zero", "dangling"]
+
+
+@pytest.mark.parametrize("kind", SPECIAL)
+def test_special_files_are_refused_without_reading(kind, tmp_path, capsys):
+    import os
+    import socket
+    path = tmp_path / "project.yaml"
+    if kind == "fifo":
+        os.mkfifo(path)
+    elif kind.startswith("dev_"):
+        if not os.path.exists(f"/dev/{kind[4:]}"):
+            pytest.skip("no such device here")
+        path = Path(f"/dev/{kind[4:]}")
+    elif kind == "folder":
+        path.mkdir()
+    elif kind == "socket":
+        sock = socket.socket(socket.AF_UNIX)
+        sock.bind(str(path))
+    elif kind == "symlink_zero":
+        path.symlink_to("/dev/zero")
+    else:
+        path.symlink_to(tmp_path / "nowhere.yaml")
+    try:
+        for command in ("check", "design"):
+            status, out, err = run_cli(capsys, [command, str(path)])
+            assert judge(status, out, err, str(path)) == "", err
+    finally:
+        if kind == "socket":
+            sock.close()
+
+
+@st.composite
+def rename_faults(draw):
+    """An output folder in some state, and a fault during the next write."""
+    old = {f"f{i}.txt": f"old {i}".encode() for i in range(draw(st.integers(0, 5)))}
+    new = {f"f{i}.txt": f"new {i}".encode() for i in range(draw(st.integers(1, 6)))}
+    clutter = draw(st.sampled_from(["none", "folder", "foreign", "manifest_folder", "manifest_bytes", "stale_tmp",
+                                    "journal_damaged"]))
+    fail_at = draw(st.integers(0, 14))  # which os.replace call fails (0: none)
+    code = draw(st.sampled_from([28, 13, 30, 21]))  # ENOSPC, EACCES, EROFS, EISDIR
+    return old, new, clutter, fail_at, code
+
+
+@settings(max_examples=60, **FUZZ)
+@given(case=rename_faults())
+def test_rename_phase_faults_leave_all_old_or_all_new(case, tmp_path_factory):
+    import os
+
+    import helix.outputs as outputs
+    from helix.errors import InputError, OutputError
+    old, new, clutter, fail_at, code = case
+    folder = tmp_path_factory.mktemp("faults") / "out"
+    if old:
+        outputs.write_outputs(folder, old)
+    folder.mkdir(exist_ok=True)
+    target = sorted(new)[-1]
+    if clutter == "folder":
+        (folder / target).unlink(missing_ok=True)
+        (folder / target).mkdir()
+    elif clutter == "foreign":
+        if not (folder / target).exists():
+            (folder / target).write_bytes(b"the user's own")
+    elif clutter == "manifest_folder":
+        (folder / outputs.MANIFEST).unlink(missing_ok=True)
+        (folder / outputs.MANIFEST).mkdir()
+    elif clutter == "manifest_bytes":
+        (folder / outputs.MANIFEST).write_bytes(b"\xff\xfe\x00")
+    elif clutter == "stale_tmp":
+        (folder / f".helix-00000000abcd.{target}.tmp").write_bytes(b"half")
+    elif clutter == "journal_damaged":
+        (folder / outputs.JOURNAL).write_bytes(b"{not json")
+
+    def state():
+        return {p.name: (p.read_bytes() if p.is_file() else "folder") for p in folder.iterdir()
+                if p.name not in (outputs.LOCK,)}
+
+    before = state()
+    real = os.replace
+    calls = {"n": 0}
+
+    def flaky(src, dst):
+        calls["n"] += 1
+        if calls["n"] == fail_at:
+            raise OSError(code, os.strerror(code))
+        return real(src, dst)
+
+    outputs.os.replace = flaky
+    try:
+        outputs.write_outputs(folder, new)
+        ok = True
+    except (InputError, OutputError) as exc:
+        ok = False
+        assert "\n" not in exc.line()
+    finally:
+        outputs.os.replace = real
+    if clutter == "journal_damaged":
+        assert not ok and state() == before
+        return
+    # Whatever happened, the next run into the folder starts with the recovery.
+    with outputs.folder_lock(folder):
+        outputs.recover(folder)
+    after = state()
+    assert not [n for n in after if n.endswith((".tmp", ".old")) or n == outputs.JOURNAL], after
+    outputs_now = {k: v for k, v in after.items() if not k.startswith(".")}
+    old_set = {k: v for k, v in before.items() if not k.startswith(".")}
+    new_set = {**{k: v for k, v in old_set.items() if k not in old}, **new}  # the user's own files stay
+    if ok:
+        assert outputs_now == new_set
+    else:
+        assert outputs_now in (old_set, new_set), (old_set, outputs_now)
+    if clutter in ("folder", "manifest_folder", "manifest_bytes") or (
+            clutter == "foreign" and target not in old):
+        assert not ok and outputs_now == old_set
