@@ -92,8 +92,11 @@ class RuleSet:
     design_speed: Limit | None = None
     side_friction_max: Limit | None = None
     vehicle_roof_clearance: Limit | None = None
-    swept_path_clearance: Limit | None = None
+    swept_path_clearance: Limit | None = None  # the shorthand: body to each kerb
+    swept_path_clearance_inner: Limit | None = None
+    swept_path_clearance_outer: Limit | None = None
     ground_clearance_margin: Limit | None = None
+    inner_kerb_gradient_warning: Limit | None = None
     files: tuple[str, ...] = field(default=(), compare=False)
 
     def clearance_outside(self) -> float:
@@ -101,6 +104,18 @@ class RuleSet:
 
     def clearance_inside(self) -> float:
         return self.structure_clearance_inside.value if self.structure_clearance_inside else 0.0
+
+    def kerb_clearances(self) -> tuple[float, float]:
+        """Clearance (m) kept between the vehicle body's swept band and the inner and the
+        outer kerb; 0 where the rule set sets none."""
+        inner = self.swept_path_clearance_inner or self.swept_path_clearance
+        outer = self.swept_path_clearance_outer or self.swept_path_clearance
+        return (inner.value if inner else 0.0, outer.value if outer else 0.0)
+
+    def inner_kerb_warning(self) -> Limit:
+        """Gradient on the inner kerb above which a rule set that does not limit the inner
+        kerb gets a warning: the rule set's own value, else the common-practice one."""
+        return self.inner_kerb_gradient_warning or INNER_KERB_WARNING
 
     def summary(self, units: str = "metric") -> list[tuple[str, str, str]]:
         """(key, value text, source) rows for reports, lengths in ``units``."""
@@ -115,7 +130,8 @@ class RuleSet:
                     "structure_clearance_outside", "structure_clearance_inside",
                     "cross_fall_min", "cross_fall_max", "landing_length", "design_speed",
                     "side_friction_max", "vehicle_roof_clearance", "swept_path_clearance",
-                    "ground_clearance_margin"):
+                    "swept_path_clearance_inner", "swept_path_clearance_outer",
+                    "ground_clearance_margin", "inner_kerb_gradient_warning"):
             lim = getattr(self, key)
             if lim is not None:
                 rows.append((key, _value_text(key, lim.value, units), lim.source))
@@ -126,8 +142,16 @@ class RuleSet:
         return rows
 
 
+#: Used when a rule set limits the gradient on another line than the inner kerb and
+#: gives no ``inner_kerb_gradient_warning`` of its own.
+INNER_KERB_WARNING = Limit(
+    0.15, "common practice, no single source: about 15 % is taken as the steepest comfortable grade "
+          "at the inner edge of a curved ramp (the value the German garage ordinances, e.g. GaStellV "
+          "Bayern s. 3 (1), set on the inner lane edge)")
+
+
 def _value_text(key: str, value: float, units: str = "metric") -> str:
-    if key.startswith("cross_fall"):
+    if key.startswith("cross_fall") or key == "inner_kerb_gradient_warning":
         return f"{100 * value:.1f} %"
     if key == "design_speed":
         return format_speed(value, units)
@@ -153,10 +177,11 @@ _SIMPLE: dict[str, tuple[str, str, str]] = {
     "design_speed": ("design_speed", "value", "speed"),
     "side_friction": ("side_friction_max", "max", "number"),
     "vehicle_roof_clearance": ("vehicle_roof_clearance", "min", "length"),
-    "swept_path_clearance": ("swept_path_clearance", "value", "length"),
     "ground_clearance_margin": ("ground_clearance_margin", "min", "length"),
+    "inner_kerb_gradient_warning": ("inner_kerb_gradient_warning", "value", "gradient"),
 }
-_KEYS = ("name", "title", "notes", "extends", "gradient", "cross_fall", "transition", *_SIMPLE)
+_KEYS = ("name", "title", "notes", "extends", "gradient", "cross_fall", "transition",
+         "swept_path_clearance", *_SIMPLE)
 
 
 def _source(node: Node, default: str | None) -> str:
@@ -284,6 +309,22 @@ def load_rule_set(name: str, project_dir: Path | None = None,
             fields["cross_fall_min"] = Limit(lo.gradient(), src)
         if hi is not None:
             fields["cross_fall_max"] = Limit(hi.gradient(), src)
+        node.done()
+    e = entry("swept_path_clearance")
+    if e is not None:
+        node, default = e
+        node.require_mapping()
+        src = _source(node, default)
+        both = node.child("value", required=False)
+        sides = {side: node.child(side, required=False) for side in ("inner", "outer")}
+        if both is None and None in sides.values():
+            raise node.error("expected 'value' (body to each kerb) and/or both 'inner' and 'outer' "
+                             "lengths such as '0.30 m'")
+        if both is not None:
+            fields["swept_path_clearance"] = Limit(both.length(non_negative=True), src)
+        for side, n in sides.items():
+            if n is not None:
+                fields[f"swept_path_clearance_{side}"] = Limit(n.length(non_negative=True), src)
         node.done()
     e = entry("transition")
     if e is not None:

@@ -113,17 +113,17 @@ def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.nda
         rule_min = rules.lane_width_one_way.value
     else:
         rule_min = 0.0
-    clearance = rules.swept_path_clearance.value if rules.swept_path_clearance else 0.0
+    c_in, c_out = rules.kerb_clearances()
     central = _central_kerb(project, family)
     v = project.vehicle
-    w = np.full((len(radius), lanes), max(rule_min, v.width + 2 * clearance))
+    w = np.full((len(radius), lanes), max(rule_min, v.width + c_in + c_out))
     for _ in range(30):  # fixed point: the inner lane's need depends on its own width
         total = w.sum(axis=1) + (central if lanes == 2 else 0.0)
         inner = radius - 0.5 * total
         need = np.empty_like(w)
         edge = inner.copy()
         for j in range(lanes):
-            need[:, j] = _swept_need(v, edge, clearance)
+            need[:, j] = _swept_need(v, edge, c_in, c_out)
             edge = edge + w[:, j] + central
         new = np.maximum(rule_min, np.ceil(need * 100.0) / 100.0)  # whole centimetres
         if np.array_equal(new, w):
@@ -132,11 +132,12 @@ def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.nda
     return w
 
 
-def _swept_need(v, lane_inner: np.ndarray, clearance: float) -> np.ndarray:
-    """Vectorised :func:`helix.turning.lane_width_needed`."""
+def _swept_need(v, lane_inner: np.ndarray, inner_clearance: float, outer_clearance: float) -> np.ndarray:
+    """Vectorised :func:`helix.turning.lane_width_needed`: clearance to the inner kerb
+    places the band, clearance to the outer kerb comes on top of its outer corner."""
     from .turning import min_rear_axle_radius
-    rr = np.maximum(lane_inner + clearance + 0.5 * v.width, min_rear_axle_radius(v))
-    return np.hypot(rr + 0.5 * v.width, v.wheelbase + v.front_overhang) + clearance - lane_inner
+    rr = np.maximum(lane_inner + inner_clearance + 0.5 * v.width, min_rear_axle_radius(v))
+    return np.hypot(rr + 0.5 * v.width, v.wheelbase + v.front_overhang) + outer_clearance - lane_inner
 
 
 def _central_kerb(project: Project, family: Family) -> float:
@@ -188,6 +189,18 @@ def _batch_length(bp: BatchProfile, r: np.ndarray, a: np.ndarray, b: np.ndarray)
     return np.sum(np.where(np.abs(bp.q) > 1e-15, curved, flat), axis=1)
 
 
+def _reference_lines(g, rc: np.ndarray, ri: np.ndarray, lane_lines: list) -> list[np.ndarray]:
+    """Radii of gradient limit ``g``, as :func:`helix.checks.reference_radii`: on a
+    two-way thread each lane's own centre line or inner kerb."""
+    two = len(lane_lines) > 1
+    if g.measured_at == "lane_centre" or (g.measured_at == "centre_line" and two):
+        return [0.5 * (a + b) for a, b in lane_lines]
+    if g.measured_at == "centre_line":
+        return [rc]
+    offset = g.offset if g.measured_at == "inner_kerb_offset" else 0.0
+    return [a + offset for a, _ in lane_lines] if two else [ri + offset]
+
+
 def screen(project: Project, family: Family, radius, with_headroom: bool = True) -> Screen:
     """All search margins of ``family`` at every radius in ``radius`` (centre line of
     the first thread), as arrays."""
@@ -219,7 +232,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
     lane_outer_min = np.full(len(radius), np.inf)
     swept = np.full(len(radius), np.inf)
     friction = np.full(len(radius), -np.inf)
-    clearance = rules.swept_path_clearance.value if rules.swept_path_clearance else 0.0
+    c_in, c_out = rules.kerb_clearances()
     speed_kmh = 3.6 * (rules.design_speed.value if rules.design_speed else 15 / 3.6)
     for rc in thread_rc:
         ri, ro = rc - 0.5 * carriageway, rc + 0.5 * carriageway
@@ -228,7 +241,10 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
         trans = _transitions(project, family, rc, land)
         bp, k = build_profiles(levels, plan, land, trans, d.transition_kind, d.landing_fall * rc)
         profiles.append(bp)
-        kmax = np.maximum(k, np.abs(d.landing_fall) * rc[:, None])  # steepest slope per storey
+        # Steepest slope by magnitude per storey: its run, its transitions (between the
+        # run's and the landing's grade) and the landings at its ends, as the full check
+        # measures every segment (a landing is held to the stricter of its storeys).
+        kmax = np.maximum(np.abs(k), np.abs(d.landing_fall) * rc[:, None])
         kmax = np.where(np.isfinite(kmax), kmax, np.inf)
         for key, r_line in (("inner", ri), ("centre", rc), ("outer", ro)):
             steep[key] = np.maximum(steep[key], np.max(kmax / r_line[:, None], axis=1))
@@ -240,25 +256,19 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
             edge = edge + widths[:, j] + central
         for g in rules.gradient:
             lim = np.array([g.max_for_rise(h) for h in rises])[None, :]
-            if g.measured_at == "centre_line":
-                refs = [rc]
-            elif g.measured_at == "lane_centre":
-                refs = [0.5 * (a + b) for a, b in lane_lines]
-            elif g.measured_at == "inner_kerb":
-                refs = [ri]
-            else:
-                refs = [ri + g.offset]
-            for r_ref in refs:
+            for r_ref in _reference_lines(g, rc, ri, lane_lines):
                 margins[g.check_id] = np.minimum(margins[g.check_id],
                                                  np.min(lim - kmax / r_ref[:, None], axis=1))
         if project.search.target_gradient is not None:
             ref = rules.gradient[0] if rules.gradient else None
-            r_ref = rc if ref is None or ref.measured_at == "centre_line" else ri
-            margins["target_gradient"] = np.minimum(
-                margins["target_gradient"], project.search.target_gradient - np.max(kmax / r_ref[:, None], axis=1))
+            refs = [rc] if ref is None else _reference_lines(ref, rc, ri, lane_lines)
+            for r_ref in refs:
+                margins["target_gradient"] = np.minimum(
+                    margins["target_gradient"],
+                    project.search.target_gradient - np.max(kmax / r_ref[:, None], axis=1))
         for a, b in lane_lines:
             lane_outer_min = np.minimum(lane_outer_min, b)
-            swept = np.minimum(swept, (b - a) - _swept_need(v, a, clearance))
+            swept = np.minimum(swept, (b - a) - _swept_need(v, a, c_in, c_out))
             friction = np.maximum(friction, speed_kmh ** 2 / (127.0 * 0.5 * (a + b)) - e)
         conn_end = bp.t[:, 0] + 0.5 * land + plan.sum(axis=1)
         drive = np.maximum(drive, _batch_length(bp, rc, bp.t[:, 0] + 0.5 * land, conn_end) / n)
