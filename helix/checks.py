@@ -6,6 +6,7 @@ shows what was not required rather than silently leaving it out.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -20,7 +21,7 @@ __all__ = ["Check", "reference_radii", "segment_slope", "segment_label", "segmen
            "storey_max_slope", "gradient_check", "inner_kerb_warning_check", "kerb_radius_checks",
            "lane_width_check", "clear_height_check", "footprint_check", "cross_fall_check",
            "lane_width_swept_check", "ground_clearance_check", "roof_clearance_check",
-           "side_friction_check"]
+           "side_friction_check", "approach_checks"]
 
 _TOL = 1e-9
 
@@ -346,3 +347,54 @@ def side_friction_check(project: Project, helix: Helix) -> Check:
                  f"({src_speed}); f = V^2/(127 R) - e, AASHTO Green Book 2011",
                  f"{t.name}, {lane.name} centre (r = {format_length(lane.centre_radius, project.units)}), "
                  f"e = {100 * t.cross_fall:.1f} %", note)
+
+
+# ----------------------------------------------------------------------------------
+# Approaches and exits: where each floor's aisle meets the helix
+
+def approach_checks(project: Project, helix: Helix, results) -> list[Check]:
+    """Clear height and roof clearance over every floor's approach and exit lines, and
+    the change of grade where each aisle meets the helix (see :mod:`helix.approach`)."""
+    rules, u = project.rules, project.units
+
+    def where(res) -> str:
+        ln = res.line
+        t = helix.threads[ln.thread]
+        lane = "" if len(t.lanes) == 1 else f", {ln.lane}"
+        how = ("given approach line" if ln.side == "given line" else
+               (f"tangent {ln.side} the connection" if ln.angle == 0 else
+                f"straight aisle {ln.side} the connection, {math.degrees(ln.angle):.0f} deg off the tangent"))
+        edge = ("lane centre" if abs(res.offset) < 1e-9 else
+                ("left lane edge" if res.offset > 0 else "right lane edge"))
+        return (f"{t.name}{lane}, {project.levels[ln.level].name}, {how}, "
+                f"{format_length(res.distance, u)} from the connection, {edge}, under {res.above}")
+
+    covered = [r for r in results if np.isfinite(r.clear)]
+    head = min(covered, key=lambda r: r.clear) if covered else None
+    lim = rules.clear_height
+    out = [Check("approach_clear_height", "Clear headroom over the floor approaches and exits",
+                 head.clear if head else None, lim.value if lim else None, "min", "length",
+                 lim.source if lim else _no_limit(rules.name), where(head) if head else "",
+                 "" if head else "nothing lies over any approach")]
+    lim = rules.vehicle_roof_clearance
+    h = project.vehicle.height
+    out.append(Check("approach_roof_clearance", "Vehicle roof below the structure over the approaches",
+                     head.clear - h if head else None, lim.value if lim else 0.0, "min", "length",
+                     (lim.source if lim else "geometric: the roof must not touch the structure")
+                     + f"; the roof lies the vehicle height ({format_length(h, u)}) above the straight aisle",
+                     where(head) if head else "", "" if head else "nothing lies over any approach"))
+    worst = max(results, key=lambda r: abs(r.line.helix_grade - r.line.grade), default=None)
+    if worst is not None:
+        ln = worst.line
+        change = abs(ln.helix_grade - ln.grade)
+        rule = rules.transition
+        t = helix.threads[ln.thread]
+        lane = "" if len(t.lanes) == 1 else f", {ln.lane}"
+        out.append(Check(
+            "approach_grade_change", "Change of grade where the aisle meets the helix", change,
+            rule.when_grade_change_over if rule else None, "max", "gradient",
+            (f"{rule.source} (the change of grade above which a transition is needed)" if rule
+             else _no_limit(rules.name)),
+            f"{t.name}{lane}, {project.levels[ln.level].name}: aisle {100 * ln.grade:.2f} %, "
+            f"helix {100 * ln.helix_grade:.2f} % on the lane centre line"))
+    return out

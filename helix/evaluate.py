@@ -12,6 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import checks as ck
+from .approach import approach_lines, measure_approach
 from .clearance import HeadroomPoint, headroom, minimum_headroom
 from .geometry import Helix, Lane, Thread
 from .layout import build_helix
@@ -82,6 +83,7 @@ class Evaluation:
     segments: tuple[SegmentResult, ...] = ()
     ground: VehicleContact | None = None  # smallest underbody or overhang clearance
     roof: VehicleContact | None = None  # smallest roof clearance
+    approaches: tuple = ()  # helix.approach.ApproachResult for every floor's aisle
 
     @property
     def ok(self) -> bool:
@@ -266,6 +268,10 @@ def evaluate(project: Project, helix: Helix | None = None, vehicle: bool = True)
         results.append(ck.roof_clearance_check(project, roof.contact if roof else None,
                                                _contact_where(project, helix, roof)))
     results.append(ck.side_friction_check(project, helix))
+    approaches = tuple(measure_approach(helix, project.structure, line)
+                       for line in approach_lines(project, helix))
+    results += ck.approach_checks(project, helix, approaches)
     return Evaluation(project=project, helix=helix, checks=tuple(results),
                       storeys=tuple(_storeys(project, helix)), headroom=head, headroom_at=at,
-                      segments=tuple(_segments(project, helix)), ground=ground, roof=roof)
+                      segments=tuple(_segments(project, helix)), ground=ground, roof=roof,
+                      approaches=approaches)

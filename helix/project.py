@@ -15,6 +15,7 @@ import math
 from dataclasses import dataclass
 from pathlib import Path
 
+from .approach import Approach, parse_approach
 from .errors import InputError, Node
 from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
@@ -36,6 +37,7 @@ class Level:
     name: str
     level: float  # finished floor level at the helix connection, m
     bearing: float | None = None  # pinned plan bearing of the connection, rad
+    approach: Approach | None = None  # how the floor's aisle meets the helix (None: design's)
 
 
 @dataclass(frozen=True)
@@ -85,6 +87,7 @@ class DesignSpec:
     transition_auto: bool = False  # size transitions for the design vehicle
     connections: str = "free"  # "free", "same_side" or "alternate"
     keep_right: bool = True  # two-way traffic keeps right
+    approach: Approach = Approach()  # every floor's aisle, unless its level says otherwise
 
     @property
     def carriageway_width(self) -> float:
@@ -176,8 +179,10 @@ def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
         else:
             raise item.error("missing key 'level' or 'height'; expected a floor level or a storey height")
         bn = item.child("bearing", required=False)
+        an = item.child("approach", required=False)
+        approach = parse_approach(an) if an is not None else None
         item.done()
-        levels.append(Level(name, z, bn.angle() if bn is not None else None))
+        levels.append(Level(name, z, bn.angle() if bn is not None else None, approach))
     return tuple(levels), imperial
 
 
@@ -322,6 +327,8 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[Des
     landing_fall = lf.gradient(non_negative=False) if lf else 0.0
     keep = node.child("keep", required=False)
     keep_right = keep.text(("right", "left")) == "right" if keep else True
+    ap = node.child("approach", required=False)
+    approach = parse_approach(ap) if ap is not None else Approach()
     cn = node.child("connections", required=False)
     connections = cn.text(CONNECTION_CHOICES) if cn else "free"
     obj = node.child("objective", required=False)
@@ -352,7 +359,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet) -> tuple[Des
                       start_bearing=start, landing_length=landing, transition_length=t_len,
                       transition_kind=t_kind, cross_fall=cross, cross_fall_inward=inward,
                       landing_fall=landing_fall, connections=connections, keep_right=keep_right,
-                      transition_auto=t_auto), search
+                      transition_auto=t_auto, approach=approach), search
 
 
 def _turns_fit(turns: float, connections: str) -> bool:

@@ -201,6 +201,13 @@ def _quantity(node: Node, kind: str) -> float:
     return node.number(non_negative=True, what="a number of zero or more such as 0.15")
 
 
+def _sourced_parts(e: tuple[Node, str | None], keys: tuple[str, ...]) -> tuple[Node, str, dict]:
+    """A mapping of optional values sharing one source: (node, source, {key: node or None})."""
+    node, default = e
+    node.require_mapping()
+    return node, _source(node, default), {k: node.child(k, required=False) for k in keys}
+
+
 def _parse_simple(node: Node, number_key: str, kind: str, default_source: str | None) -> Limit:
     node.require_mapping()
     value = _quantity(node.child(number_key), kind)  # type: ignore[arg-type]
@@ -298,33 +305,23 @@ def load_rule_set(name: str, project_dir: Path | None = None,
         fields["gradient"] = _parse_gradient(e[0], e[1])
     e = entry("cross_fall")
     if e is not None:
-        node, default = e
-        node.require_mapping()
-        src = _source(node, default)
-        lo = node.child("min", required=False)
-        hi = node.child("max", required=False)
-        if lo is None and hi is None:
+        node, src, parts = _sourced_parts(e, ("min", "max"))
+        if all(n is None for n in parts.values()):
             raise node.error("expected 'min' and/or 'max' gradients such as '3%'")
-        if lo is not None:
-            fields["cross_fall_min"] = Limit(lo.gradient(), src)
-        if hi is not None:
-            fields["cross_fall_max"] = Limit(hi.gradient(), src)
+        for key, n in parts.items():
+            if n is not None:
+                fields[f"cross_fall_{key}"] = Limit(n.gradient(), src)
         node.done()
     e = entry("swept_path_clearance")
     if e is not None:
-        node, default = e
-        node.require_mapping()
-        src = _source(node, default)
-        both = node.child("value", required=False)
-        sides = {side: node.child(side, required=False) for side in ("inner", "outer")}
-        if both is None and None in sides.values():
+        node, src, parts = _sourced_parts(e, ("value", "inner", "outer"))
+        if parts["value"] is None and (parts["inner"] is None or parts["outer"] is None):
             raise node.error("expected 'value' (body to each kerb) and/or both 'inner' and 'outer' "
                              "lengths such as '0.30 m'")
-        if both is not None:
-            fields["swept_path_clearance"] = Limit(both.length(non_negative=True), src)
-        for side, n in sides.items():
+        for key, n in parts.items():
             if n is not None:
-                fields[f"swept_path_clearance_{side}"] = Limit(n.length(non_negative=True), src)
+                name = "swept_path_clearance" + ("" if key == "value" else f"_{key}")
+                fields[name] = Limit(n.length(non_negative=True), src)
         node.done()
     e = entry("transition")
     if e is not None:

@@ -37,6 +37,10 @@ __all__ = ["Family", "Screen", "Option", "DesignResult", "families", "screen", "
 TWO_PI = 2.0 * math.pi
 LAYOUT_TITLES = {"single-one-way": "single helix, one-way", "single-two-way": "single helix, two-way",
                  "double": "double interleaved helix", "concentric": "concentric pair"}
+#: Checks that only the full checker measures (the vehicle rolled along the ramp, the
+#: floor approaches); a failing one moves the radius to its own boundary in ``_verify``.
+_FULL_CHECK_ONLY = ("underbody_clearance", "roof_clearance", "approach_clear_height",
+                    "approach_roof_clearance")
 _CHEAP = ("gradient", "target_gradient", "inner_kerb_radius", "outer_kerb_radius", "lane_width",
           "lane_width_swept", "side_friction", "footprint", "cross_fall")
 
@@ -459,23 +463,33 @@ def _grid(project: Project, points: int = 64) -> np.ndarray:
 
 
 def _verify(project: Project, cand: Candidate, grid: np.ndarray) -> tuple[Evaluation | None, Candidate]:
-    """Full check of a screened candidate; a failing vehicle check moves the radius to
-    its boundary (Brent's method on the full check), or rejects the candidate."""
+    """Full check of a screened candidate; a failing check that only the full checker
+    measures (vehicle, approaches) moves the radius to its boundary (Brent's method on
+    the full check, within the screened-feasible radii above the candidate), or rejects
+    the candidate."""
     ev = evaluate(family_project(project, cand.family, cand.radius))
     if ev.ok:
         return ev, cand
     failing = [c for c in ev.checks if not c.ok]
-    if any(c.id not in ("underbody_clearance", "roof_clearance") for c in failing):
+    if any(c.id not in _FULL_CHECK_ONLY for c in failing):
         return None, cand
-    hi = float(grid[-1])
     key = failing[0].id
+    # Rolling the vehicle is slow: only when a vehicle check is what fails.
+    vehicle = any(c.id in ("underbody_clearance", "roof_clearance") for c in failing)
+    ids = {c.id for c in failing} | {"approach_clear_height", "approach_roof_clearance"}
 
     def margin(r: float) -> float:
-        e = evaluate(family_project(project, cand.family, r))
-        return min(c.margin for c in e.checks if c.id in ("underbody_clearance", "roof_clearance")
-                   and c.margin is not None)
+        e = evaluate(family_project(project, cand.family, r), vehicle=vehicle)
+        return min((c.margin for c in e.checks if c.id in ids and c.margin is not None), default=math.inf)
 
-    if margin(hi) < 0 or not screen(project, cand.family, [hi]).feasible()[0]:
+    # The far end of the run of screened-feasible grid radii above the candidate.
+    ok = screen(project, cand.family, grid, with_headroom=True).feasible()
+    hi = cand.radius
+    for j in np.flatnonzero(grid > cand.radius):
+        if not ok[j]:
+            break
+        hi = float(grid[j])
+    if hi <= cand.radius or margin(hi) < 0:
         return None, cand
     r = float(brent_root(margin, cand.radius, hi, xtol=1e-6))
     ev = evaluate(family_project(project, cand.family, r))
