@@ -248,7 +248,14 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True)
         # Steepest slope by magnitude per storey: its run, its transitions (between the
         # run's and the landing's grade) and the landings at its ends, as the full check
         # measures every segment (a landing is held to the stricter of its storeys).
-        kmax = np.maximum(np.abs(k), np.abs(d.landing_fall) * rc[:, None])
+        # A transition rises at the mean of the landing's and the run's slopes (segment)
+        # or between them (vertical curve); the landing's own slope counts only where
+        # there are landings (a fall without landings is no segment).
+        kl = d.landing_fall * rc[:, None]
+        k_trans = np.abs(kl) if d.transition_kind == "curve" else np.abs(0.5 * (kl + k))
+        kmax = np.maximum(np.abs(k), np.where(trans > 1e-9, k_trans, 0.0))
+        if landing_len > 0:
+            kmax = np.maximum(kmax, np.abs(kl))
         kmax = np.where(np.isfinite(kmax), kmax, np.inf)
         for key, r_line in (("inner", ri), ("centre", rc), ("outer", ro)):
             steep[key] = np.maximum(steep[key], np.max(kmax / r_line[:, None], axis=1))

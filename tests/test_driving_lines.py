@@ -151,12 +151,14 @@ def test_no_inner_kerb_warning_where_the_rule_set_limits_the_inner_kerb():
 
 
 @pytest.mark.parametrize("rules", ["istructe-2011", "conservative-default", "de-garage-ordinance"])
-@pytest.mark.parametrize("layout,fall", [("single-two-way", 0.0), ("single-one-way", 0.06), ("double", 0.02)])
-def test_search_gradient_margins_match_the_full_check(rules, layout, fall):
+@pytest.mark.parametrize("layout,fall,landing", [("single-two-way", 0.0, 4.0), ("single-one-way", 0.06, 4.0),
+                                                 ("double", 0.02, 4.0), ("single-one-way", 0.12, 0.0)])
+def test_search_gradient_margins_match_the_full_check(rules, layout, fall, landing):
     # The search's vectorised margins and the full check measure the same lines and
-    # segments (landings included); compared at several radii.
+    # segments (landings included; a fall without landings is no segment); compared at
+    # several radii.
     p = _search_demo(rules)
-    p = replace(p, design=replace(p.design, landing_length=4.0, landing_fall=fall))
+    p = replace(p, design=replace(p.design, landing_length=landing, landing_fall=fall))
     fam = Family(layout, (1.0,) * p.storeys, None)
     radii = np.array([8.0, 10.5, 14.0])
     sc = screen(p, fam, radii, with_headroom=False)
