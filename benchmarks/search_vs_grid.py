@@ -1,89 +1,115 @@
-"""Benchmark of the design search (prints figures; asserts nothing).
+"""Benchmark of the design search against brute force (prints figures; asserts nothing).
 
-    python benchmarks/search_vs_grid.py [PROJECT.yaml]
+    python benchmarks/search_vs_grid.py [PROJECT.yaml ...]
 
-Reports, on the demo project by default:
-- candidates screened per second (vectorised margins of one family, many radii);
-- the wall time of the whole search (`helix.search.design`, with the full check of
-  each layout's choice) and of `helix design` as a command;
-- the search against a dense exhaustive grid of the same space (every family, radius
-  step 1 mm): the optimum each finds, and how many times faster the search is.
+For each project (by default the search demo, the three other demos searched over
+their default space, and an invented 10-level building with unequal storeys), and each
+layout:
+- the wall time of the exact search (:func:`helix.search.search_layout`: feasible radii
+  by roots and certified headroom regions, turns per storey by branch and bound);
+- the turns combinations in the space and the partial designs and storey headroom
+  regions the search examined;
+- the brute-force reference of the property test (every combination, every radius on a
+  1 mm grid): its optimum next to the search's, and its time, measured where it has at
+  most 64 combinations and otherwise scaled up from the combinations of the first three
+  storeys;
+- the whole `helix.design` (full checks and explanations included).
 """
 from __future__ import annotations
 
-import subprocess
+import math
 import sys
+import tempfile
 import time
+from dataclasses import replace
 from pathlib import Path
-
-import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "tests"))
 
 import helix  # noqa: E402
-from helix.search import _best_in_family, _grid, design, families, screen  # noqa: E402
+from helix.search import default_space, search_layout, storey_choices  # noqa: E402
+import test_search_exhaustive as T  # noqa: E402
+from test_search_exhaustive import exhaustive  # noqa: E402
+
+TALL = """\
+# Invented benchmark scenario, not a real building: ten levels, unequal storeys.
+project: {name: Ten levels with unequal storeys (invented benchmark)}
+levels:
+  - {name: Ground, level: 0 m}
+  - {name: L1, height: 4.2 m}
+  - {name: L2, height: 3.1 m}
+  - {name: L3, height: 2.9 m}
+  - {name: L4, height: 2.9 m}
+  - {name: L5, height: 3.3 m}
+  - {name: L6, height: 2.9 m}
+  - {name: L7, height: 2.9 m}
+  - {name: L8, height: 3.6 m}
+  - {name: L9, height: 2.9 m}
+structure: {slab_depth: 250 mm, hanging_depth: 200 mm, wall_thickness: 250 mm}
+site: {width: 34 m, depth: 36 m, margin: 0.3 m}
+vehicle: aashto-p
+rules: istructe-2011
+design:
+  layouts: [single-one-way, single-two-way, double, concentric]
+  centre_radius: {min: 3 m, max: 30 m}
+  turns_per_storey: {choices: [0.5, 1, 1.5]}
+  lane_width: auto
+"""
 
 
-def best_of(times):
-    return min(times)
+def projects() -> list[tuple[str, helix.Project]]:
+    out = []
+    for name in sys.argv[1:] or ["demo-search.yaml", "demo-metric.yaml", "demo-imperial.yaml", "demo-double.yaml"]:
+        p = helix.load_project(ROOT / "configs" / name if "/" not in name else name)
+        if p.search.fixed:
+            p = replace(p, search=default_space(p))
+        out.append((name, p))
+    if not sys.argv[1:]:
+        path = Path(tempfile.mkdtemp()) / "ten-levels.yaml"
+        path.write_text(TALL)
+        out.append(("ten levels (invented)", helix.load_project(path)))
+    return out
 
 
 def main() -> None:
-    path = sys.argv[1] if len(sys.argv) > 1 else str(ROOT / "configs" / "demo-search.yaml")
-    project = helix.load_project(path)
-    fams = families(project)
-    print(f"project: {project.name}")
-    print(f"families (layout x turns): {len(fams)}; radius range {project.search.radius_min:.2f} to "
-          f"{project.search.radius_max:.2f} m")
-
-    # 1. Screening throughput.
-    radii = np.linspace(project.search.radius_min, project.search.radius_max, 20000)
-    t0 = time.perf_counter()
-    for fam in fams:
-        screen(project, fam, radii)
-    dt = time.perf_counter() - t0
-    print(f"screening: {len(fams) * len(radii)} candidates in {dt:.3f} s = "
-          f"{len(fams) * len(radii) / dt:,.0f} candidates/s")
-
-    # 2. Search (coarse grid + root finding) against the dense exhaustive grid.
-    grid = _grid(project)
-    step = 0.001
-    dense = np.arange(project.search.radius_min, project.search.radius_max + step / 2, step)
-    search_times, grid_times = [], []
-    for _ in range(3):
+    for name, project in projects():
+        print(f"== {name}: {project.storeys} storeys, objective {project.search.objective}, radius "
+              f"{project.search.radius_min:.2f} to {project.search.radius_max:.2f} m")
+        for layout in project.search.layouts:
+            t0 = time.perf_counter()
+            got = search_layout(project, layout)
+            t_search = time.perf_counter() - t0
+            sr = got.searched
+            combos = sr["combinations"]
+            if combos <= 64:
+                t0 = time.perf_counter()
+                ref = exhaustive(project, layout, project.search.objective)
+                t_ref, estimated = time.perf_counter() - t0, False
+            else:  # time 8 combinations of the brute force, scale to all of them
+                sample = [c if i < 3 else c[:1] for i, c in enumerate(storey_choices(project, layout))]
+                k = math.prod(len(c) for c in sample)
+                original = T.storey_choices
+                T.storey_choices = lambda p, lay, sample=sample: sample
+                try:
+                    t0 = time.perf_counter()
+                    exhaustive(project, layout, project.search.objective)
+                    t_ref = (time.perf_counter() - t0) / k * combos
+                finally:
+                    T.storey_choices = original
+                ref, estimated = None, True
+            found = (f"R = {got.radius:.4f} m, turns {'/'.join(f'{t:g}' for t in got.family.turns)}"
+                     if got.feasible else "nothing feasible")
+            refs = ("(not run)" if estimated else
+                    (f"R = {ref[1]:.4f} m, turns {'/'.join(f'{t:g}' for t in ref[2])}" if ref else "nothing feasible"))
+            print(f"  {layout:15s} search {1000 * t_search:8.1f} ms: {found}; {combos} combinations, "
+                  f"{sr.get('nodes', 0)} partial designs, {sr.get('headroom_windows', 0)} headroom regions")
+            print(f"  {'':15s} brute force {'~' if estimated else ''}{t_ref:9.1f} s: {refs}; "
+                  f"{t_ref / max(t_search, 1e-9):,.0f}x the search")
         t0 = time.perf_counter()
-        found = {}
-        for fam in fams:
-            c = _best_in_family(project, fam, grid, "footprint", screen(project, fam, grid))
-            found[fam] = None if c is None else c.radius
-        search_times.append(time.perf_counter() - t0)
-        t0 = time.perf_counter()
-        exhaustive = {}
-        for fam in fams:
-            ok = screen(project, fam, dense).feasible()
-            exhaustive[fam] = float(dense[np.flatnonzero(ok)[0]]) if np.any(ok) else None
-        grid_times.append(time.perf_counter() - t0)
-    ts, tg = best_of(search_times), best_of(grid_times)
-    print(f"search: {ts * 1000:.1f} ms; exhaustive grid ({len(dense)} radii x {len(fams)} families, "
-          f"{step * 1000:.0f} mm step): {tg * 1000:.1f} ms; search is {tg / ts:.0f}x faster")
-    agree = True
-    for fam in fams:
-        a, b = found[fam], exhaustive[fam]
-        same = (a is None and b is None) or (a is not None and b is not None and b - step <= a <= b + 1e-9)
-        agree &= same
-        print(f"  {fam.label():55s} search {('-' if a is None else f'{a:.4f} m'):>10s}  "
-              f"grid {('-' if b is None else f'{b:.4f} m'):>10s}  {'same' if same else 'DIFFERENT'}")
-    print(f"same optimum within the grid step: {'yes' if agree else 'NO'}")
-
-    # 3. Whole runs.
-    t0 = time.perf_counter()
-    design(project)
-    print(f"helix.search.design (with the full check of each layout's choice): {time.perf_counter() - t0:.2f} s")
-    exe = [sys.executable, "-m", "helix", "design", path]
-    t0 = time.perf_counter()
-    subprocess.run(exe, capture_output=True, cwd=ROOT, check=False)
-    print(f"'helix design' command, wall time: {time.perf_counter() - t0:.2f} s")
+        helix.design(project)
+        print(f"  helix.design (full checks and explanations): {time.perf_counter() - t0:.2f} s")
 
 
 if __name__ == "__main__":

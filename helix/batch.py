@@ -168,7 +168,8 @@ def batch_min_headroom(profiles: list[BatchProfile], start_bearings: list[float]
             g = np.full(theta.shape, np.inf)
             for u, shift in overhead:
                 d = u.level(theta + shift) - z
-                g = np.where(np.isfinite(d) & (d > 1e-9) & (d < g), d, g)
+                # Touching counts as overhead (see clearance.headroom).
+                g = np.where(np.isfinite(d) & (d > -1e-9) & (d < g), d, g)
             clear = g - depth
             if cover_soffit is not None:
                 clear = np.where(np.isfinite(z), np.minimum(clear, cover_soffit - z), clear)

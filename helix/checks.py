@@ -6,6 +6,7 @@ shows what was not required rather than silently leaving it out.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -16,10 +17,11 @@ from .project import Project
 from .rules import GradientLimit, Limit
 from .units import format_length
 
-__all__ = ["Check", "reference_radii", "storey_max_slope", "gradient_check", "kerb_radius_checks",
+__all__ = ["Check", "reference_radii", "segment_slope", "segment_label", "segment_limit",
+           "storey_max_slope", "gradient_check", "inner_kerb_warning_check", "kerb_radius_checks",
            "lane_width_check", "clear_height_check", "footprint_check", "cross_fall_check",
            "lane_width_swept_check", "ground_clearance_check", "roof_clearance_check",
-           "side_friction_check"]
+           "side_friction_check", "approach_checks"]
 
 _TOL = 1e-9
 
@@ -35,6 +37,8 @@ class Check:
     source: str
     where: str = ""
     note: str = ""
+    advisory: bool = False  # a stated practice value, not a rule: exceeding it warns, never fails
+    warning: str = ""  # a default that is not neutral, said out loud
 
     @property
     def margin(self) -> float | None:
@@ -43,12 +47,23 @@ class Check:
         return self.limit - self.value if self.sense == "max" else self.value - self.limit
 
     @property
-    def ok(self) -> bool:
+    def met(self) -> bool:
         m = self.margin
         return m is None or bool(m >= -_TOL)
 
     @property
+    def ok(self) -> bool:
+        return self.advisory or self.met
+
+    @property
+    def warns(self) -> bool:
+        """A warning to show: an advisory value exceeded, or a non-neutral default."""
+        return self.ok and (bool(self.warning) or (self.advisory and not self.met))
+
+    @property
     def status(self) -> str:
+        if self.warns:
+            return "WARN"
         if self.limit is None:
             return "no limit"
         if self.value is None:
@@ -61,42 +76,121 @@ def _no_limit(rules_name: str) -> str:
 
 
 def reference_radii(thread: Thread, limit: GradientLimit) -> list[tuple[str, float]]:
-    """Radii of the thread on which ``limit`` is measured."""
+    """Radii of the thread on which ``limit`` is measured.
+
+    Each lane of a two-way thread is a driving line of its own: there the centre line
+    is each lane's centre line and the inner kerb each lane's inner edge (the middle
+    of the whole carriageway, where no car drives, is never a reference)."""
+    lanes = thread.lanes if len(thread.lanes) > 1 else ()
+    if limit.measured_at == "lane_centre" or (limit.measured_at == "centre_line" and lanes):
+        if not lanes:
+            return [("lane centre", thread.centre_radius)]
+        return [(f"{lane.name} centre line", lane.centre_radius) for lane in lanes]
     if limit.measured_at == "centre_line":
         return [("centre line", thread.centre_radius)]
-    if limit.measured_at == "lane_centre":
-        return [(f"{lane.name} centre", lane.centre_radius) for lane in thread.lanes]
-    if limit.measured_at == "inner_kerb":
-        return [("inner kerb", thread.inner_radius)]
-    return [(limit.label, thread.inner_radius + limit.offset)]
+    offset = limit.offset if limit.measured_at == "inner_kerb_offset" else 0.0
+    what = "inner kerb" if offset == 0.0 else limit.label
+    if lanes:
+        return [(f"{lane.name}, {what}", lane.inner_radius + offset) for lane in lanes]
+    return [(what, thread.inner_radius + offset)]
+
+
+def segment_slope(thread: Thread, j: int) -> tuple[float, float]:
+    """Steepest slope dz/dtheta (m/rad) on segment ``j`` by magnitude, and its sign
+    (+1 rising, -1 falling along the ascent); a vertical curve is steepest at an end."""
+    lo, hi = thread.profile.slope_range(j)
+    steep = hi if abs(hi) >= abs(lo) else lo
+    return abs(steep), (1.0 if steep >= 0 else -1.0)
 
 
 def storey_max_slope(thread: Thread, storey: int) -> float:
-    """Largest slope dz/dtheta (m/rad) anywhere in a storey's ramp (runs and transitions)."""
+    """Largest slope magnitude |dz/dtheta| (m/rad) in a storey's ramp (runs and
+    transitions)."""
     p = thread.profile
-    slopes = [p.slope_range(j)[1] for j in range(len(p.k)) if p.storey[j] == storey]
+    slopes = [segment_slope(thread, j)[0] for j in range(len(p.k)) if p.storey[j] == storey]
     return max(slopes) if slopes else 0.0
 
 
+def thread_rises(project: Project, thread: Thread) -> list[float]:
+    lv = [project.levels[i].level for i in thread.levels]
+    return [b - a for a, b in zip(lv, lv[1:])]
+
+
+def segment_label(project: Project, thread: Thread, j: int) -> str:
+    """"Level 1 to Level 2" for a storey's transition or run, "Level 2 landing" for a landing."""
+    p = thread.profile
+    names = [project.levels[i].name for i in thread.levels]
+    s = p.storey[j]
+    if s >= 0:
+        return f"{names[s]} to {names[s + 1]}"
+    c = int(np.argmin(np.abs(p.connections - 0.5 * (p.t[j] + p.t[j + 1]))))
+    return f"{names[c]} landing"
+
+
+def segment_limit(project: Project, thread: Thread, limit: GradientLimit, j: int) -> float:
+    """The limit of ``limit`` on segment ``j``: the storey's, by its rise; a landing takes
+    the stricter of the storeys it joins."""
+    p = thread.profile
+    rises = thread_rises(project, thread)
+    s = p.storey[j]
+    if s >= 0:
+        return limit.max_for_rise(rises[s])
+    near = [p.storey[i] for i in (j - 1, j + 1) if 0 <= i < len(p.k) and p.storey[i] >= 0]
+    return min(limit.max_for_rise(rises[i]) for i in (near or range(len(rises))))
+
+
+def _gradient_where(project: Project, t: Thread, j: int, line: str, r: float, sign: float) -> str:
+    u = project.units
+    a, b = t.profile.t[j], t.profile.t[j + 1]
+    return (f"{t.name}, {segment_label(project, t, j)}, {t.profile.kind[j]} "
+            f"{format_length(float(t.chainage(a)), u)} to {format_length(float(t.chainage(b)), u)}"
+            f"{' (falling along the ascent)' if sign < 0 else ''}, {line} (r = {format_length(r, u)})")
+
+
 def gradient_check(project: Project, helix: Helix, limit: GradientLimit) -> Check:
-    """Steepest gradient on the limit's reference line, storey by storey, against the
-    limit for that storey's rise; the storey with the least margin is reported."""
+    """Steepest gradient by magnitude (rising or falling) on the limit's reference
+    line(s), on every segment: landings, transitions and runs.  Each storey's segments
+    get the limit for its rise, a landing the stricter of the storeys it joins; the
+    segment with the least margin is reported."""
     worst = None
-    rises = project.storey_heights
     for t in helix.threads:
-        for s, rise in enumerate(rises):
-            kmax = storey_max_slope(t, s)
-            lim = limit.max_for_rise(rise)
-            for line, r in reference_radii(t, limit):
-                g = kmax / r
-                margin = lim - g
-                if worst is None or margin < worst[0]:
-                    where = (f"{t.name}, {project.levels[s].name} to {project.levels[s + 1].name}, "
-                             f"{line} (r = {format_length(r, project.units)})")
-                    worst = (margin, g, lim, where)
-    _, g, lim, where = worst  # type: ignore[misc]
+        refs = reference_radii(t, limit)
+        for j in range(len(t.profile.k)):
+            k, sign = segment_slope(t, j)
+            lim = segment_limit(project, t, limit, j)
+            for line, r in refs:
+                g = k / r
+                if worst is None or lim - g < worst[0]:
+                    worst = (lim - g, g, lim, t, j, line, r, sign)
+    _, g, lim, t, j, line, r, sign = worst  # type: ignore[misc]
     return Check(limit.check_id, f"Gradient on the {limit.label}", g, lim, "max", "gradient",
-                 limit.source, where)
+                 limit.source, _gradient_where(project, t, j, line, r, sign))
+
+
+def inner_kerb_warning_check(project: Project, helix: Helix) -> Check | None:
+    """Where the rule set limits the gradient on other lines only, a warning (not a
+    failure) when any lane's inner kerb is steeper than a stated common-practice value."""
+    rules = project.rules
+    if any(g.measured_at == "inner_kerb" or (g.measured_at == "inner_kerb_offset" and g.offset == 0)
+           for g in rules.gradient):
+        return None
+    warn = rules.inner_kerb_warning()
+    worst = None
+    for t in helix.threads:
+        for j in range(len(t.profile.k)):
+            k, sign = segment_slope(t, j)
+            for lane in t.lanes:
+                g = k / lane.inner_radius
+                if worst is None or g > worst[0]:
+                    line = "inner kerb" if len(t.lanes) == 1 else f"{lane.name}, inner kerb"
+                    worst = (g, t, j, line, lane.inner_radius, sign)
+    g, t, j, line, r, sign = worst  # type: ignore[misc]
+    return Check("gradient_inner_kerb_warning", "Gradient on the inner kerb (warning only)", g,
+                 warn.value, "max", "gradient",
+                 f"{warn.source}; rule set {rules.name} does not limit the inner kerb",
+                 _gradient_where(project, t, j, line, r, sign),
+                 "steeper than common practice at the inner kerb; not a failure of the rule set",
+                 advisory=True)
 
 
 def kerb_radius_checks(project: Project, helix: Helix) -> list[Check]:
@@ -162,9 +256,13 @@ def cross_fall_check(project: Project, helix: Helix) -> Check:
     rules = project.rules
     lim = rules.cross_fall_min
     value = float(np.min([abs(t.cross_fall) for t in helix.threads]))
+    warning = ""
+    if lim is None and value == 0.0:
+        warning = ("no cross-fall: the rule set sets no minimum and the design gives none, so the "
+                   "curved ramp has no drainage fall and no superelevation")
     return Check("cross_fall", "Cross-fall of the curved ramp", value, lim.value if lim else None,
                  "min", "gradient", lim.source if lim else _no_limit(rules.name),
-                 "all threads")
+                 "all threads", warning, warning=warning)
 
 
 # ----------------------------------------------------------------------------------
@@ -172,27 +270,36 @@ def cross_fall_check(project: Project, helix: Helix) -> Check:
 
 def lane_width_swept_check(project: Project, helix: Helix) -> Check:
     """Each lane against the width the vehicle's steady-state swept band needs, with the
-    rule set's clearance to both kerbs; the lane with the least margin is reported."""
+    rule set's clearances to the inner and the outer kerb; the lane with the least
+    margin is reported."""
     from .turning import lane_width_needed
     rules = project.rules
-    lim = rules.swept_path_clearance
-    clearance = lim.value if lim else 0.0
+    c_in, c_out = rules.kerb_clearances()
     worst = None
     for t in helix.threads:
         for lane in t.lanes:
-            need, band = lane_width_needed(project.vehicle, lane.inner_radius, clearance)
+            need, band = lane_width_needed(project.vehicle, lane.inner_radius, c_in, c_out)
             margin = lane.width - need
             if worst is None or margin < worst[0]:
                 worst = (margin, lane.width, need, f"{t.name}, {lane.name}", band)
     _, width, need, where, band = worst  # type: ignore[misc]
+    lim_in = rules.swept_path_clearance_inner or rules.swept_path_clearance
+    lim_out = rules.swept_path_clearance_outer or rules.swept_path_clearance
+    sources = dict.fromkeys(lim.source for lim in (lim_in, lim_out) if lim is not None)
     src = ("steady-state offtracking of the design vehicle (AASHTO Green Book 2011 turning "
-           f"geometry) plus {clearance:.2f} m to each kerb"
-           + (f" ({lim.source})" if lim else " (no kerb clearance set by the rule set)"))
+           f"geometry) plus {c_in:.2f} m to the inner and {c_out:.2f} m to the outer kerb"
+           + (f" ({'; '.join(sources)})" if sources else " (no kerb clearance set by the rule set)"))
     note = (f"swept band {format_length(band.inner_radius, project.units)} to "
             f"{format_length(band.outer_radius, project.units)}, "
             f"width {format_length(band.width, project.units)}")
+    warning = ""
+    if c_in == 0.0 or c_out == 0.0:
+        sides = " and ".join(n for n, c in (("inner", c_in), ("outer", c_out)) if c == 0.0)
+        warning = (f"no clearance to the {sides} kerb: the rule set sets none, so the swept band may "
+                   "touch the kerb")
+        note = f"{note}; {warning}"
     return Check("lane_width_swept", "Lane width for the vehicle's swept path", width, need, "min",
-                 "length", src, where, note)
+                 "length", src, where, note, warning=warning)
 
 
 def _vehicle_clearance_check(check_id: str, title: str, lim: Limit | None, contact, where: str,
@@ -240,3 +347,54 @@ def side_friction_check(project: Project, helix: Helix) -> Check:
                  f"({src_speed}); f = V^2/(127 R) - e, AASHTO Green Book 2011",
                  f"{t.name}, {lane.name} centre (r = {format_length(lane.centre_radius, project.units)}), "
                  f"e = {100 * t.cross_fall:.1f} %", note)
+
+
+# ----------------------------------------------------------------------------------
+# Approaches and exits: where each floor's aisle meets the helix
+
+def approach_checks(project: Project, helix: Helix, results) -> list[Check]:
+    """Clear height and roof clearance over every floor's approach and exit lines, and
+    the change of grade where each aisle meets the helix (see :mod:`helix.approach`)."""
+    rules, u = project.rules, project.units
+
+    def where(res) -> str:
+        ln = res.line
+        t = helix.threads[ln.thread]
+        lane = "" if len(t.lanes) == 1 else f", {ln.lane}"
+        how = ("given approach line" if ln.side == "given line" else
+               (f"tangent {ln.side} the connection" if ln.angle == 0 else
+                f"straight aisle {ln.side} the connection, {math.degrees(ln.angle):.0f} deg off the tangent"))
+        edge = ("lane centre" if abs(res.offset) < 1e-9 else
+                ("left lane edge" if res.offset > 0 else "right lane edge"))
+        return (f"{t.name}{lane}, {project.levels[ln.level].name}, {how}, "
+                f"{format_length(res.distance, u)} from the connection, {edge}, under {res.above}")
+
+    covered = [r for r in results if np.isfinite(r.clear)]
+    head = min(covered, key=lambda r: r.clear) if covered else None
+    lim = rules.clear_height
+    out = [Check("approach_clear_height", "Clear headroom over the floor approaches and exits",
+                 head.clear if head else None, lim.value if lim else None, "min", "length",
+                 lim.source if lim else _no_limit(rules.name), where(head) if head else "",
+                 "" if head else "nothing lies over any approach")]
+    lim = rules.vehicle_roof_clearance
+    h = project.vehicle.height
+    out.append(Check("approach_roof_clearance", "Vehicle roof below the structure over the approaches",
+                     head.clear - h if head else None, lim.value if lim else 0.0, "min", "length",
+                     (lim.source if lim else "geometric: the roof must not touch the structure")
+                     + f"; the roof lies the vehicle height ({format_length(h, u)}) above the straight aisle",
+                     where(head) if head else "", "" if head else "nothing lies over any approach"))
+    worst = max(results, key=lambda r: abs(r.line.helix_grade - r.line.grade), default=None)
+    if worst is not None:
+        ln = worst.line
+        change = abs(ln.helix_grade - ln.grade)
+        rule = rules.transition
+        t = helix.threads[ln.thread]
+        lane = "" if len(t.lanes) == 1 else f", {ln.lane}"
+        out.append(Check(
+            "approach_grade_change", "Change of grade where the aisle meets the helix", change,
+            rule.when_grade_change_over if rule else None, "max", "gradient",
+            (f"{rule.source} (the change of grade above which a transition is needed)" if rule
+             else _no_limit(rules.name)),
+            f"{t.name}{lane}, {project.levels[ln.level].name}: aisle {100 * ln.grade:.2f} %, "
+            f"helix {100 * ln.helix_grade:.2f} % on the lane centre line"))
+    return out

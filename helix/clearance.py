@@ -34,6 +34,10 @@ class HeadroomPoint:
     above: str  # what is overhead
 
 
+#: Level difference (m) below which another surface counts as touching, not below.
+_TOUCH = 1e-9
+
+
 def overhead_shifts(helix: Helix, i: int) -> list[tuple[int, float]]:
     """``(j, shift)`` pairs: thread ``j`` at ``theta + shift`` lies over thread ``i`` at
     ``theta`` in plan (same bearing) and may be the nearest surface above it.
@@ -82,7 +86,9 @@ def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float, l
         if not u.covers(radius):
             continue
         gap = u.level(th + shift, radius) - z
-        take = np.isfinite(gap) & (gap > 1e-9) & (gap < best)
+        # Above or touching (a storey flatter than the structure is deep): a surface
+        # level with this one leaves no headroom at all, not a pass.
+        take = np.isfinite(gap) & (gap > -_TOUCH) & (gap < best)
         if np.any(take):
             found.append(u.name if j != i else "the same thread, a turn higher")
             best = np.where(take, gap, best)

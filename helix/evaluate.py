@@ -12,16 +12,17 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import checks as ck
+from .approach import approach_lines, measure_approach
 from .clearance import HeadroomPoint, headroom, minimum_headroom
 from .errors import DesignError
-from .geometry import Helix, Thread
+from .geometry import Helix, Lane, Thread
 from .layout import build_helix
 from .project import Project
 from .units import format_length
 from .vehicle_clearance import GroundContact, PathProfile, minimum_clearance
 
 __all__ = ["StoreyResult", "SegmentResult", "Location", "Evaluation", "evaluate", "locate",
-           "wheel_paths", "gradient_lines"]
+           "wheel_paths", "vehicle_positions", "gradient_lines"]
 
 
 @dataclass(frozen=True)
@@ -83,6 +84,7 @@ class Evaluation:
     segments: tuple[SegmentResult, ...] = ()
     ground: VehicleContact | None = None  # smallest underbody or overhang clearance
     roof: VehicleContact | None = None  # smallest roof clearance
+    approaches: tuple = ()  # helix.approach.ApproachResult for every floor's aisle
 
     @property
     def ok(self) -> bool:
@@ -113,15 +115,33 @@ def locate(project: Project, thread: Thread, theta: float, radius: float) -> Loc
     return Location(thread.name, storey, level, float(thread.chainage(theta)), radius, bearing)
 
 
+def vehicle_positions(project: Project, lane: Lane) -> dict[str, float]:
+    """Rear-axle centre radius of the design vehicle at the extreme lateral positions the
+    lane allows: hugging the inner kerb (inner rear body side at the rule set's inner
+    clearance) and hugging the outer kerb (outer front corner at the outer clearance),
+    the same placements as the swept-width check.  A lane too narrow for both gives the
+    inner position only."""
+    from .turning import hugging_inner_rear_axle, hugging_outer_rear_axle
+    v = project.vehicle
+    c_in, c_out = project.rules.kerb_clearances()
+    rr_in = hugging_inner_rear_axle(v, lane.inner_radius, c_in)
+    rr_out = hugging_outer_rear_axle(v, lane.outer_radius, c_out)
+    if not math.isfinite(rr_out) or rr_out <= rr_in + 1e-9:
+        return {"hugging the inner kerb": rr_in}
+    return {"hugging the inner kerb": rr_in, "hugging the outer kerb": rr_out}
+
+
 def wheel_paths(project: Project, thread: Thread) -> dict[str, float]:
-    """Radii of the design vehicle's wheel paths, centred in each lane."""
+    """Radii of the design vehicle's outermost and innermost (rear) wheel paths in each
+    lane, over the lateral positions the lane allows (:func:`vehicle_positions`)."""
     v = project.vehicle
     track = v.track if v.track is not None else v.width
     paths = {}
     for lane in thread.lanes:
         prefix = "" if len(thread.lanes) == 1 else f"{lane.name} "
-        paths[f"{prefix}inner wheels"] = lane.centre_radius - 0.5 * track
-        paths[f"{prefix}outer wheels"] = lane.centre_radius + 0.5 * track
+        rr = vehicle_positions(project, lane).values()
+        paths[f"{prefix}inner wheels"] = min(rr) - 0.5 * track
+        paths[f"{prefix}outer wheels"] = max(rr) + 0.5 * track
     return paths
 
 
@@ -140,52 +160,49 @@ def _segments(project: Project, helix: Helix) -> list[SegmentResult]:
     out = []
     for t in helix.threads:
         p = t.profile
-        names = [project.levels[i].name for i in t.levels]
         lines = gradient_lines(project, t)
         for j, (kind, s, a, b) in enumerate(p.segments()):
-            lo, hi = p.slope_range(j)
-            steep = hi if abs(hi) >= abs(lo) else lo
-            if s >= 0:
-                label = f"{names[s]} to {names[s + 1]}"
-            else:
-                c = int(np.argmin(np.abs(p.connections - 0.5 * (a + b))))
-                label = f"{names[c]} landing"
-            out.append(SegmentResult(t.name, kind, label, float(t.chainage(a)), float(t.chainage(b)),
-                                     {name: steep / r for name, r in lines.items()}))
+            k, sign = ck.segment_slope(t, j)
+            out.append(SegmentResult(t.name, kind, ck.segment_label(project, t, j), float(t.chainage(a)),
+                                     float(t.chainage(b)),
+                                     {name: sign * k / r for name, r in lines.items()}))
     return out
 
 
 def vehicle_clearances(project: Project, helix: Helix) -> tuple[VehicleContact | None, VehicleContact | None]:
     """Roll the design vehicle along every wheel path (underbody, overhangs) and every
-    body side (roof against the soffit overhead) of every lane; return the governing
-    ground and roof contacts."""
+    body side (roof against the soffit overhead) of every lane, at each lateral position
+    the lane allows (:func:`vehicle_positions`: hugging either kerb within its
+    clearance, as the swept-width check places it); return the governing ground and
+    roof contacts."""
     v = project.vehicle
     track = v.track if v.track is not None else v.width
     ground = roof = None
     for i, t in enumerate(helix.threads):
         for lane in t.lanes:
-            paths = {"inner wheels": lane.centre_radius - 0.5 * track,
-                     "outer wheels": lane.centre_radius + 0.5 * track}
-            for line, r in paths.items():
-                res = minimum_clearance(v, PathProfile(t.profile, r), focus=0.005)
-                for part, c in res.items():
-                    if ground is None or c.clearance < ground.contact.clearance:
-                        ground = VehicleContact(i, lane.name, line, r, c)
-            sides = {"inner body side": lane.centre_radius - 0.5 * v.width,
-                     "outer body side": lane.centre_radius + 0.5 * v.width}
-            for line, r in sides.items():
-                path = PathProfile(t.profile, r)
+            for where, rr in vehicle_positions(project, lane).items():
+                paths = {f"inner wheels, {where}": rr - 0.5 * track,
+                         f"outer wheels, {where}": rr + 0.5 * track}
+                for line, r in paths.items():
+                    res = minimum_clearance(v, PathProfile(t.profile, r), focus=0.005)
+                    for part, c in res.items():
+                        if ground is None or c.clearance < ground.contact.clearance:
+                            ground = VehicleContact(i, lane.name, line, r, c)
+                sides = {f"inner body side, {where}": rr - 0.5 * v.width,
+                         f"outer body side, {where}": rr + 0.5 * v.width}
+                for line, r in sides.items():
+                    path = PathProfile(t.profile, r)
 
-                def soffit(s_, path=path, r=r, i=i, t=t):
-                    theta = path.theta(s_)
-                    clear, _, _ = headroom(helix, project.structure, i, theta.ravel(), r, labels=False)
-                    return (t.profile.level(theta.ravel()) + clear).reshape(np.shape(s_))
+                    def soffit(s_, path=path, r=r, i=i, t=t):
+                        theta = path.theta(s_)
+                        clear, _, _ = headroom(helix, project.structure, i, theta.ravel(), r, labels=False)
+                        return (t.profile.level(theta.ravel()) + clear).reshape(np.shape(s_))
 
-                res = minimum_clearance(v, path, soffit=soffit, focus=0.005)
-                c = res.get("roof")
-                if c is not None and math.isfinite(c.clearance) and (
-                        roof is None or c.clearance < roof.contact.clearance):
-                    roof = VehicleContact(i, lane.name, line, r, c)
+                    res = minimum_clearance(v, path, soffit=soffit, focus=0.005)
+                    c = res.get("roof")
+                    if c is not None and math.isfinite(c.clearance) and (
+                            roof is None or c.clearance < roof.contact.clearance):
+                        roof = VehicleContact(i, lane.name, line, r, c)
     return ground, roof
 
 
@@ -272,6 +289,9 @@ def evaluate(project: Project, helix: Helix | None = None, vehicle: bool = True)
              f"r = {format_length(at.radius, u)}, "
              f"under {head.above}") if at is not None and head is not None else ""
     results = [ck.gradient_check(project, helix, g) for g in project.rules.gradient]
+    warn = ck.inner_kerb_warning_check(project, helix)
+    if warn is not None:
+        results.append(warn)
     results += ck.kerb_radius_checks(project, helix)
     results.append(ck.lane_width_check(project, helix))
     results.append(ck.clear_height_check(project, head, where))
@@ -286,6 +306,10 @@ def evaluate(project: Project, helix: Helix | None = None, vehicle: bool = True)
         results.append(ck.roof_clearance_check(project, roof.contact if roof else None,
                                                _contact_where(project, helix, roof)))
     results.append(ck.side_friction_check(project, helix))
+    approaches = tuple(measure_approach(helix, project.structure, line)
+                       for line in approach_lines(project, helix))
+    results += ck.approach_checks(project, helix, approaches)
     return Evaluation(project=project, helix=helix, checks=tuple(results),
                       storeys=tuple(_storeys(project, helix)), headroom=head, headroom_at=at,
-                      segments=tuple(_segments(project, helix)), ground=ground, roof=roof)
+                      segments=tuple(_segments(project, helix)), ground=ground, roof=roof,
+                      approaches=approaches)

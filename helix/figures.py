@@ -187,6 +187,18 @@ def plan_figure(ev: Evaluation):
                         (s(x), s(y)), ha=ha, va=va, fontsize=7.5,
                         arrowprops=dict(arrowstyle="-", color=PALETTE["critical"], lw=0.6),
                         bbox=dict(boxstyle="round,pad=0.25", fc="white", ec=PALETTE["critical"], lw=0.6))
+        # Floor approaches and exits: each lane's aisle centre where it meets the helix,
+        # and where the least clear height over them lies.
+        for k, a in enumerate(ev.approaches):
+            xy = a.line.vertices
+            ax.plot(s(xy[:, 0]), s(xy[:, 1]), color=PALETTE["structure"], lw=1.1, ls=(0, (1, 1.5)),
+                    label="floor approach or exit (aisle centre)" if k == 0 else None)
+        covered = [a for a in ev.approaches if math.isfinite(a.clear)]
+        if covered:
+            a = min(covered, key=lambda a_: a_.clear)
+            x, y = a.line.at(a.distance, a.offset)
+            ax.plot(s(x), s(y), "X", color=PALETTE["critical"], ms=8, mec="white", mew=0.6,
+                    label=f"least clear height over an approach: {format_length(a.clear, p.units)}")
         # Radii, dimensioned along a free direction between connections.
         bearings = sorted(groups)
         free = _free_bearing(bearings)

@@ -61,13 +61,15 @@ def vehicle_transition(project: Project, spec: DesignSpec, centre_radius: float,
                        rise: float, plan_angle: float, landing_below: float, landing_above: float) -> float:
     """Plan angle of the transitions that the design vehicle needs on one storey.
 
-    Sized on the innermost wheel path, where the change of grade is sharpest, then
-    carried to the centre line (same plan angle); the run steepens as the transitions
-    grow, so the size is iterated to a fixed point.
+    Sized on the innermost wheel path (the vehicle hugging the inner kerb, as every
+    vehicle check places it), where the change of grade is sharpest, then carried to
+    the centre line (same plan angle); the run steepens as the transitions grow, so the
+    size is iterated to a fixed point.
     """
+    from .turning import hugging_inner_rear_axle
     v = project.vehicle
     track = v.track if v.track is not None else v.width
-    r_w = inner_kerb + 0.5 * spec.lane_widths[0] - 0.5 * track
+    r_w = hugging_inner_rear_axle(v, inner_kerb, project.rules.kerb_clearances()[0]) - 0.5 * track
     margin = project.rules.ground_clearance_margin.value if project.rules.ground_clearance_margin else 0.0
     tau = 0.0
     for _ in range(6):

@@ -15,6 +15,7 @@ import math
 from dataclasses import dataclass
 from pathlib import Path
 
+from .approach import Approach, parse_approach
 from .errors import MAX_LENGTH, MAX_NAME, InputError, InvalidValue, Node, finite, require
 from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
@@ -45,6 +46,7 @@ class Level:
     name: str
     level: float  # finished floor level at the helix connection, m
     bearing: float | None = None  # pinned plan bearing of the connection, rad
+    approach: Approach | None = None  # how the floor's aisle meets the helix (None: design's)
 
     def __post_init__(self):
         require(isinstance(self.name, str) and 0 < len(self.name.strip()) <= MAX_NAME, self, "name", self.name,
@@ -117,6 +119,7 @@ class DesignSpec:
     transition_auto: bool = False  # size transitions for the design vehicle
     connections: str = "free"  # "free", "same_side" or "alternate"
     keep_right: bool = True  # two-way traffic keeps right
+    approach: Approach = Approach()  # every floor's aisle, unless its level says otherwise
 
     def __post_init__(self):
         require(self.layout in LAYOUT_CHOICES, self, "layout", self.layout, f"one of {', '.join(LAYOUT_CHOICES)}")
@@ -262,8 +265,10 @@ def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
         else:
             raise item.error("missing key 'level' or 'height'; expected a floor level or a storey height")
         bn = item.child("bearing", required=False)
+        an = item.child("approach", required=False)
+        approach = parse_approach(an) if an is not None else None
         item.done()
-        levels.append(Level(name, z, bn.angle() if bn is not None else None))
+        levels.append(Level(name, z, bn.angle() if bn is not None else None, approach))
     return tuple(levels), imperial
 
 
@@ -414,6 +419,8 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
     landing_fall = lf.gradient(non_negative=False) if lf else 0.0
     keep = node.child("keep", required=False)
     keep_right = keep.text(("right", "left")) == "right" if keep else True
+    ap = node.child("approach", required=False)
+    approach = parse_approach(ap) if ap is not None else Approach()
     cn = node.child("connections", required=False)
     connections = cn.text(CONNECTION_CHOICES) if cn else "free"
     obj = node.child("objective", required=False)
@@ -444,7 +451,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
                       start_bearing=start, landing_length=landing, transition_length=t_len,
                       transition_kind=t_kind, cross_fall=cross, cross_fall_inward=inward,
                       landing_fall=landing_fall, connections=connections, keep_right=keep_right,
-                      transition_auto=t_auto), search
+                      transition_auto=t_auto, approach=approach), search
 
 
 def _turns_fit(turns: float, connections: str) -> bool:

@@ -75,6 +75,9 @@ def _summary(ev: Evaluation, option=None, comparisons=None) -> list[tuple[str, o
         ["Top to bottom at the design speed", f"{drive_time(ev):.0f} s"],
         ["Result", "all checks pass" if not fails else f"FAIL: {', '.join(fails)}"],
     ]
+    warns = [c for c in ev.checks if c.warns]
+    if warns:
+        rows.append(["Warnings (not failures)", "; ".join(f"{c.id}: {c.warning or c.note}" for c in warns)])
     for e in comparisons or []:
         f2 = [c.id for c in e.checks if not c.ok]
         rows.append([f"Also checked against {e.project.rules.name}",

@@ -54,6 +54,18 @@ def check_dict(c) -> dict[str, Any]:
     }
 
 
+def approach_dict(ev: Evaluation, a) -> dict[str, Any]:
+    """One floor approach or exit line: where it runs and the least clear height over it."""
+    ln = ev.helix.threads[a.line.thread]
+    return {"thread": ln.name, "lane": a.line.lane, "level": ev.project.levels[a.line.level].name,
+            "side": a.line.side, "angle_deg": _r(math.degrees(a.line.angle), 3),
+            "length_m": _r(a.line.length, 3), "grade_pct": _r(100 * a.line.grade, 3),
+            "helix_grade_pct": _r(100 * a.line.helix_grade, 3),
+            "vertices_m": [[_r(x, 4), _r(y, 4)] for x, y in a.line.vertices],
+            "clear_height_min_m": _r(a.clear), "at_distance_m": _r(a.distance, 3),
+            "at_offset_m": _r(a.offset, 3), "under": a.above}
+
+
 def to_dict(ev: Evaluation) -> dict[str, Any]:
     p, h = ev.project, ev.helix
     first = h.threads[0]
@@ -94,7 +106,7 @@ def to_dict(ev: Evaluation) -> dict[str, Any]:
         "gradient_pct": {k.replace(" ", "_").replace(":", ""): _r(100 * v, 3) for k, v in g.gradient.items()},
     } for g in ev.segments]
     # The steepest segment; on a tie a run is named before the transition that reaches its grade.
-    steepest = max(ev.segments, key=lambda g: (round(g.gradient["inner kerb"], 9), g.kind == "run"),
+    steepest = max(ev.segments, key=lambda g: (round(abs(g.gradient["inner kerb"]), 9), g.kind == "run"),
                    default=None)
     at = ev.headroom_at
     return {
@@ -125,6 +137,8 @@ def to_dict(ev: Evaluation) -> dict[str, Any]:
             "thread": steepest.thread, "storey": steepest.storey, "kind": steepest.kind,
             "chainage_start_m": _r(steepest.chainage_start, 3),
             "gradient_inner_pct": _r(100 * steepest.gradient["inner kerb"], 3)},
+        "warnings": [c.id for c in ev.checks if c.warns],
+        "approaches": [approach_dict(ev, a) for a in ev.approaches],
         "headroom_min_m": _r(ev.headroom.clear) if ev.headroom else None,
         "headroom_min_at": None if at is None else {
             "thread": at.thread, "level": at.level, "storey": at.storey,
@@ -194,6 +208,10 @@ def check_table(ev: Evaluation) -> str:
     out.append("")
     fails = [c.id for c in ev.checks if not c.ok]
     out.append("RESULT: all checks pass" if not fails else f"RESULT: {len(fails)} check(s) fail: {', '.join(fails)}")
+    for c in ev.checks:
+        if c.warns:
+            out.append(f"WARNING: {c.id}: {c.warning or c.note}"
+                       + (f" ({_fmt(c, c.value, u)}, practice value {_fmt(c, c.limit, u)})" if c.advisory else ""))
     out.append("CAUTION: " + CAUTION)
     return "\n".join(out) + "\n"
 

@@ -104,8 +104,11 @@ class RuleSet:
     design_speed: Limit | None = None
     side_friction_max: Limit | None = None
     vehicle_roof_clearance: Limit | None = None
-    swept_path_clearance: Limit | None = None
+    swept_path_clearance: Limit | None = None  # the shorthand: body to each kerb
+    swept_path_clearance_inner: Limit | None = None
+    swept_path_clearance_outer: Limit | None = None
     ground_clearance_margin: Limit | None = None
+    inner_kerb_gradient_warning: Limit | None = None
     files: tuple[str, ...] = field(default=(), compare=False)
 
     def clearance_outside(self) -> float:
@@ -113,6 +116,18 @@ class RuleSet:
 
     def clearance_inside(self) -> float:
         return self.structure_clearance_inside.value if self.structure_clearance_inside else 0.0
+
+    def kerb_clearances(self) -> tuple[float, float]:
+        """Clearance (m) kept between the vehicle body's swept band and the inner and the
+        outer kerb; 0 where the rule set sets none."""
+        inner = self.swept_path_clearance_inner or self.swept_path_clearance
+        outer = self.swept_path_clearance_outer or self.swept_path_clearance
+        return (inner.value if inner else 0.0, outer.value if outer else 0.0)
+
+    def inner_kerb_warning(self) -> Limit:
+        """Gradient on the inner kerb above which a rule set that does not limit the inner
+        kerb gets a warning: the rule set's own value, else the common-practice one."""
+        return self.inner_kerb_gradient_warning or INNER_KERB_WARNING
 
     def summary(self, units: str = "metric") -> list[tuple[str, str, str]]:
         """(key, value text, source) rows for reports, lengths in ``units``."""
@@ -127,7 +142,8 @@ class RuleSet:
                     "structure_clearance_outside", "structure_clearance_inside",
                     "cross_fall_min", "cross_fall_max", "landing_length", "design_speed",
                     "side_friction_max", "vehicle_roof_clearance", "swept_path_clearance",
-                    "ground_clearance_margin"):
+                    "swept_path_clearance_inner", "swept_path_clearance_outer",
+                    "ground_clearance_margin", "inner_kerb_gradient_warning"):
             lim = getattr(self, key)
             if lim is not None:
                 rows.append((key, _value_text(key, lim.value, units), lim.source))
@@ -138,8 +154,16 @@ class RuleSet:
         return rows
 
 
+#: Used when a rule set limits the gradient on another line than the inner kerb and
+#: gives no ``inner_kerb_gradient_warning`` of its own.
+INNER_KERB_WARNING = Limit(
+    0.15, "common practice, no single source: about 15 % is taken as the steepest comfortable grade "
+          "at the inner edge of a curved ramp (the value the German garage ordinances, e.g. GaStellV "
+          "Bayern s. 3 (1), set on the inner lane edge)")
+
+
 def _value_text(key: str, value: float, units: str = "metric") -> str:
-    if key.startswith("cross_fall"):
+    if key.startswith("cross_fall") or key == "inner_kerb_gradient_warning":
         return f"{100 * value:.1f} %"
     if key == "design_speed":
         return format_speed(value, units)
@@ -165,10 +189,11 @@ _SIMPLE: dict[str, tuple[str, str, str]] = {
     "design_speed": ("design_speed", "value", "speed"),
     "side_friction": ("side_friction_max", "max", "number"),
     "vehicle_roof_clearance": ("vehicle_roof_clearance", "min", "length"),
-    "swept_path_clearance": ("swept_path_clearance", "value", "length"),
     "ground_clearance_margin": ("ground_clearance_margin", "min", "length"),
+    "inner_kerb_gradient_warning": ("inner_kerb_gradient_warning", "value", "gradient"),
 }
-_KEYS = ("name", "title", "notes", "extends", "gradient", "cross_fall", "transition", *_SIMPLE)
+_KEYS = ("name", "title", "notes", "extends", "gradient", "cross_fall", "transition",
+         "swept_path_clearance", *_SIMPLE)
 
 
 def _source(node: Node, default: str | None) -> str:
@@ -186,6 +211,13 @@ def _quantity(node: Node, kind: str) -> float:
     if kind == "gradient":
         return node.gradient()
     return node.number(non_negative=True, what="a number of zero or more such as 0.15")
+
+
+def _sourced_parts(e: tuple[Node, str | None], keys: tuple[str, ...]) -> tuple[Node, str, dict]:
+    """A mapping of optional values sharing one source: (node, source, {key: node or None})."""
+    node, default = e
+    node.require_mapping()
+    return node, _source(node, default), {k: node.child(k, required=False) for k in keys}
 
 
 def _parse_simple(node: Node, number_key: str, kind: str, default_source: str | None) -> Limit:
@@ -285,17 +317,23 @@ def load_rule_set(name: str, project_dir: Path | None = None,
         fields["gradient"] = _parse_gradient(e[0], e[1])
     e = entry("cross_fall")
     if e is not None:
-        node, default = e
-        node.require_mapping()
-        src = _source(node, default)
-        lo = node.child("min", required=False)
-        hi = node.child("max", required=False)
-        if lo is None and hi is None:
+        node, src, parts = _sourced_parts(e, ("min", "max"))
+        if all(n is None for n in parts.values()):
             raise node.error("expected 'min' and/or 'max' gradients such as '3%'")
-        if lo is not None:
-            fields["cross_fall_min"] = Limit(lo.gradient(), src)
-        if hi is not None:
-            fields["cross_fall_max"] = Limit(hi.gradient(), src)
+        for key, n in parts.items():
+            if n is not None:
+                fields[f"cross_fall_{key}"] = Limit(n.gradient(), src)
+        node.done()
+    e = entry("swept_path_clearance")
+    if e is not None:
+        node, src, parts = _sourced_parts(e, ("value", "inner", "outer"))
+        if parts["value"] is None and (parts["inner"] is None or parts["outer"] is None):
+            raise node.error("expected 'value' (body to each kerb) and/or both 'inner' and 'outer' "
+                             "lengths such as '0.30 m'")
+        for key, n in parts.items():
+            if n is not None:
+                name = "swept_path_clearance" + ("" if key == "value" else f"_{key}")
+                fields[name] = Limit(n.length(non_negative=True), src)
         node.done()
     e = entry("transition")
     if e is not None:

@@ -106,16 +106,16 @@ def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.nda
         rule_min = rules.lane_width_one_way.value
     else:
         rule_min = 0.0
-    clearance = rules.swept_path_clearance.value if rules.swept_path_clearance else 0.0
+    c_in, c_out = rules.kerb_clearances()
     central = _central_kerb(project, family)
     v = project.vehicle
-    w = np.full((len(radius), lanes), max(rule_min, v.width + 2 * clearance))
+    w = np.full((len(radius), lanes), max(rule_min, v.width + c_in + c_out))
     for _ in range(200):
         total = w.sum(axis=1) + (central if lanes == 2 else 0.0)
         edge = radius - 0.5 * total
         new = np.empty_like(w)
         for j in range(lanes):
-            new[:, j] = np.maximum(rule_min, _swept_need(v, edge, clearance))
+            new[:, j] = np.maximum(rule_min, _swept_need(v, edge, c_in, c_out))
             edge = edge + new[:, j] + central
         done = np.max(np.abs(new - w)) <= 1e-12 if len(w) else True
         w = new
@@ -124,11 +124,12 @@ def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.nda
     return w
 
 
-def _swept_need(v, lane_inner: np.ndarray, clearance: float) -> np.ndarray:
-    """Vectorised :func:`helix.turning.lane_width_needed`."""
+def _swept_need(v, lane_inner: np.ndarray, inner_clearance: float, outer_clearance: float) -> np.ndarray:
+    """Vectorised :func:`helix.turning.lane_width_needed`: clearance to the inner kerb
+    places the band, clearance to the outer kerb comes on top of its outer corner."""
     from .turning import min_rear_axle_radius
-    rr = np.maximum(lane_inner + clearance + 0.5 * v.width, min_rear_axle_radius(v))
-    return np.hypot(rr + 0.5 * v.width, v.wheelbase + v.front_overhang) + clearance - lane_inner
+    rr = np.maximum(lane_inner + inner_clearance + 0.5 * v.width, min_rear_axle_radius(v))
+    return np.hypot(rr + 0.5 * v.width, v.wheelbase + v.front_overhang) + outer_clearance - lane_inner
 
 
 def _central_kerb(project: Project, family: Family) -> float:
@@ -180,6 +181,18 @@ def _batch_length(bp: BatchProfile, r: np.ndarray, a: np.ndarray, b: np.ndarray)
     return np.sum(np.where(np.abs(bp.q) > 1e-15, curved, flat), axis=1)
 
 
+def _reference_lines(g, rc: np.ndarray, ri: np.ndarray, lane_lines: list) -> list[np.ndarray]:
+    """Radii of gradient limit ``g``, as :func:`helix.checks.reference_radii`: on a
+    two-way thread each lane's own centre line or inner kerb."""
+    two = len(lane_lines) > 1
+    if g.measured_at == "lane_centre" or (g.measured_at == "centre_line" and two):
+        return [0.5 * (a + b) for a, b in lane_lines]
+    if g.measured_at == "centre_line":
+        return [rc]
+    offset = g.offset if g.measured_at == "inner_kerb_offset" else 0.0
+    return [a + offset for a, _ in lane_lines] if two else [ri + offset]
+
+
 def screen(project: Project, family: Family, radius, with_headroom: bool = True,
            lower_span: tuple[bool, bool] | None = None) -> Screen:
     """All search margins of ``family`` at every radius in ``radius`` (centre line of
@@ -217,7 +230,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
     lane_outer_min = np.full(len(radius), np.inf)
     swept = np.full(len(radius), np.inf)
     friction = np.full(len(radius), -np.inf)
-    clearance = rules.swept_path_clearance.value if rules.swept_path_clearance else 0.0
+    c_in, c_out = rules.kerb_clearances()
     speed_kmh = 3.6 * (rules.design_speed.value if rules.design_speed else 15 / 3.6)
     for rc in thread_rc:
         ri, ro = rc - 0.5 * carriageway, rc + 0.5 * carriageway
@@ -226,7 +239,17 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
         trans = _transitions(project, family, rc, land)
         bp, k = build_profiles(levels, plan, land, trans, d.transition_kind, d.landing_fall * rc)
         profiles.append(bp)
-        kmax = np.maximum(k, np.abs(d.landing_fall) * rc[:, None])  # steepest slope per storey
+        # Steepest slope by magnitude per storey: its run, its transitions (between the
+        # run's and the landing's grade) and the landings at its ends, as the full check
+        # measures every segment (a landing is held to the stricter of its storeys).
+        # A transition rises at the mean of the landing's and the run's slopes (segment)
+        # or between them (vertical curve); the landing's own slope counts only where
+        # there are landings (a fall without landings is no segment).
+        kl = d.landing_fall * rc[:, None]
+        k_trans = np.abs(kl) if d.transition_kind == "curve" else np.abs(0.5 * (kl + k))
+        kmax = np.maximum(np.abs(k), np.where(trans > 1e-9, k_trans, 0.0))
+        if landing_len > 0:
+            kmax = np.maximum(kmax, np.abs(kl))
         kmax = np.where(np.isfinite(kmax), kmax, np.inf)
         for key, r_line in (("inner", ri), ("centre", rc), ("outer", ro)):
             steep[key] = np.maximum(steep[key], np.max(kmax / r_line[:, None], axis=1))
@@ -238,25 +261,19 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
             edge = edge + widths[:, j] + central
         for g in rules.gradient:
             lim = np.array([g.max_for_rise(h) for h in rises])[None, :]
-            if g.measured_at == "centre_line":
-                refs = [rc]
-            elif g.measured_at == "lane_centre":
-                refs = [0.5 * (a + b) for a, b in lane_lines]
-            elif g.measured_at == "inner_kerb":
-                refs = [ri]
-            else:
-                refs = [ri + g.offset]
-            for r_ref in refs:
+            for r_ref in _reference_lines(g, rc, ri, lane_lines):
                 margins[g.check_id] = np.minimum(margins[g.check_id],
                                                  np.min(lim - kmax / r_ref[:, None], axis=1))
         if project.search.target_gradient is not None:
             ref = rules.gradient[0] if rules.gradient else None
-            r_ref = rc if ref is None or ref.measured_at == "centre_line" else ri
-            margins["target_gradient"] = np.minimum(
-                margins["target_gradient"], project.search.target_gradient - np.max(kmax / r_ref[:, None], axis=1))
+            refs = [rc] if ref is None else _reference_lines(ref, rc, ri, lane_lines)
+            for r_ref in refs:
+                margins["target_gradient"] = np.minimum(
+                    margins["target_gradient"],
+                    project.search.target_gradient - np.max(kmax / r_ref[:, None], axis=1))
         for a, b in lane_lines:
             lane_outer_min = np.minimum(lane_outer_min, b)
-            swept = np.minimum(swept, (b - a) - _swept_need(v, a, clearance))
+            swept = np.minimum(swept, (b - a) - _swept_need(v, a, c_in, c_out))
             friction = np.maximum(friction, speed_kmh ** 2 / (127.0 * 0.5 * (a + b)) - e)
         conn_end = bp.t[:, 0] + 0.5 * land + plan.sum(axis=1)
         drive = np.maximum(drive, _batch_length(bp, rc, bp.t[:, 0] + 0.5 * land, conn_end) / n)
@@ -310,6 +327,9 @@ RADIUS_KEYS = ("inner_kerb_radius", "outer_kerb_radius", "lane_width", "lane_wid
                "side_friction", "cross_fall", "footprint")
 #: The design vehicle's checks that only the full check can run (rolled along the ramp).
 VEHICLE_KEYS = ("underbody_clearance", "roof_clearance")
+#: Checks only the full checker measures (the vehicle rolled along the ramp, the floor
+#: approaches); a failing one moves the radius to its own boundary in ``_verified``.
+FULL_CHECK_ONLY = VEHICLE_KEYS + ("approach_clear_height", "approach_roof_clearance")
 #: Turns per storey tried for each layout when the project gives none (the double
 #: helix's thread rises one storey in half a turn; single and concentric helices most
 #: often take a whole turn, less for low storeys, more for tall ones).
@@ -349,7 +369,8 @@ def storey_choices(project: Project, layout: str) -> tuple[tuple[float, ...], ..
 
 def _sub(project: Project, s0: int, s1: int) -> Project:
     """The storeys ``s0`` to ``s1 - 1`` as a project of their own (levels s0..s1)."""
-    return replace(project, levels=project.levels[s0:s1 + 1])
+    design = replace(project.design, turns_per_storey=project.design.turns_per_storey[s0:s1])
+    return replace(project, levels=project.levels[s0:s1 + 1], design=design)
 
 
 def _batch_margins(project: Project, family: Family, radii: np.ndarray, keys, headroom: bool = False,
@@ -488,7 +509,7 @@ def _kinks(project: Project, family: Family, a: float, b: float) -> list[tuple[f
         return []
     from .turning import min_rear_axle_radius
     rules, v = project.rules, project.vehicle
-    clearance = rules.swept_path_clearance.value if rules.swept_path_clearance else 0.0
+    c_in, c_out = rules.kerb_clearances()
     if family.lanes == 2 and rules.lane_width_two_way is not None:
         rule_min = 0.5 * rules.lane_width_two_way.value
     else:
@@ -501,9 +522,12 @@ def _kinks(project: Project, family: Family, a: float, b: float) -> list[tuple[f
         edge = r - 0.5 * (w.sum(axis=1) + (central if family.lanes == 2 else 0.0))
         out = {}
         for j in range(family.lanes):
-            out[f"lane {j + 1} at the rule minimum width"] = _swept_need(v, edge, clearance) - rule_min
+            name = "lane" if family.lanes == 1 else ("inner lane", "outer lane")[j]
+            out[f"lane_width_swept ({name} at the rule minimum; the swept path widens it below)"] = \
+                _swept_need(v, edge, c_in, c_out) - rule_min
             if rr_min > 0:
-                out[f"lane {j + 1}: the vehicle on its tightest circle"] = edge + clearance + 0.5 * v.width - rr_min
+                out[f"lane_width_swept ({name}: the vehicle on its tightest circle below)"] = \
+                    edge + c_in + 0.5 * v.width - rr_min
             edge = edge + w[:, j] + central
         return out
 
@@ -835,6 +859,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
     counter = 0
     heapq.heappush(heap, (bound(space.base, (), math.inf), counter, (), space.base, 0, math.inf))
     nodes = 0
+    completed, max_complete = 0, 200  # the headroom objective evaluates complete choices
     best = None
     while heap:
         key, _, turns, region, pending, head_ub = heapq.heappop(heap)
@@ -846,6 +871,11 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
                 value, r = _best_headroom(space, turns, region)
                 if best is None or (value,) + key[1:] < best[0]:
                     best = ((value,) + key[1:], turns, region, r)
+                completed += 1
+                if completed >= max_complete:
+                    space.notes.append(f"largest headroom taken over the first {max_complete} complete choices "
+                                       "of turns, in order of their bound; it may not be the largest")
+                    break
                 continue
             best = (key, turns, region, best_point(region, turns)[1])
             break
@@ -971,18 +1001,21 @@ def pareto_mask(points: np.ndarray) -> np.ndarray:
     return ~np.any(dominates, axis=0)
 
 
-def _vehicle_margin(project: Project, family: Family, r: float) -> float:
-    ev = evaluate(family_project(project, family, r))
-    margins = [c.margin for c in ev.checks if c.id in VEHICLE_KEYS and c.margin is not None]
+def _full_check_margin(project: Project, family: Family, r: float, ids: set[str]) -> float:
+    """The smallest margin of the checks ``ids`` at ``r`` (rolling the vehicle only
+    when one of them needs it: it is the slow part)."""
+    ev = evaluate(family_project(project, family, r), vehicle=bool(ids & set(VEHICLE_KEYS)))
+    margins = [c.margin for c in ev.checks if c.id in ids and c.margin is not None]
     return min(margins) if margins else math.inf
 
 
 def _verified(project: Project, layout: str, objective: str | None = None,
               relax=frozenset()) -> tuple[LayoutSearch, Evaluation | None]:
-    """The layout's search result confirmed by the full check.  Where the design
-    vehicle's rolled clearances (which the search cannot screen) fail, the radius moves
-    along the family's feasible radii to where they pass (the clearances grow with the
-    radius as the grade changes soften; checked at the ends of each part)."""
+    """The layout's search result confirmed by the full check.  Where checks the search
+    cannot screen fail (the design vehicle rolled along the ramp, the floor approaches),
+    the radius moves along the family's feasible radii to where they pass (they grow
+    with the radius as the grade changes soften and the threads spread; checked at the
+    ends of each part, the boundary by root finding)."""
     ls = search_layout(project, layout, objective, relax)
     if not ls.feasible:
         return ls, None
@@ -990,13 +1023,14 @@ def _verified(project: Project, layout: str, objective: str | None = None,
     failing = [c.id for c in ev.checks if not c.ok and c.id not in relax]
     if not failing:
         return ls, ev
-    if any(k not in VEHICLE_KEYS for k in failing):
+    if any(k not in FULL_CHECK_ONLY for k in failing):
         note = (f"the full check of the chosen design fails {', '.join(failing)} although the search's "
                 "margins pass; reported as failing")
         return replace(ls, notes=ls.notes + (note,)), ev
     fam = ls.family
-    f = lambda r: _vehicle_margin(project, fam, r)
-    low = (ls.objective_value is not None) and (objective or project.search.objective) in ("footprint", "drive")
+    ids = set(failing)
+    f = lambda r: _full_check_margin(project, fam, r, ids)
+    low = (objective or project.search.objective) in ("footprint", "drive")
     parts = ls.region.parts if low else tuple(reversed(ls.region.parts))
     for part in parts:
         a, b = part.lo, part.hi
@@ -1014,16 +1048,23 @@ def _verified(project: Project, layout: str, objective: str | None = None,
         if ev.ok:
             value = float(_objective(screen(project, fam, [r]), objective or project.search.objective)[0])
             return replace(ls, radius=float(r), binding=failing[0], objective_value=value), ev
-    note = (f"the design vehicle's {', '.join(failing)} fails on every feasible radius of "
-            f"{fam.label()}; other turns per storey were not tried for it")
+    note = (f"{', '.join(failing)} fails on every feasible radius of {fam.label()}; other turns per "
+            "storey were not tried for it")
     return replace(ls, notes=ls.notes + (note,)), ev
+
+
+def _full_check_hint(key: str) -> str:
+    if key.startswith("approach"):
+        return ("a floor approach that keeps clear of the turn overhead: longer landings, or the aisle "
+                "given as design.approach (side, length, angle or line)")
+    if key in VEHICLE_KEYS:
+        return "transitions sized for the vehicle (transition: {length: vehicle}) or a flatter ramp"
+    return "see the checks of the row"
 
 
 def _relaxed_objective(key: str) -> str:
     if key == "footprint":
         return "footprint"
-    if key == "clear_height":
-        return "headroom"
     return "gradient"  # everything else improves with the radius: the largest one
 
 
@@ -1086,6 +1127,9 @@ def _change_text(project: Project, key: str, shortfall: float, ls: LayoutSearch)
     if key.startswith("gradient") or key == "target_gradient":
         return f"allow a gradient {100 * shortfall:.2f} percentage points steeper ({key.replace('_', ' ')})"
     if key == "clear_height":
+        if shortfall >= project.structure.depth:
+            return (f"{format_length(shortfall, u, precision=3)} more clear height, more than the whole structure "
+                    f"({format_length(project.structure.depth, u)}): fewer turns per storey or another layout")
         return (f"a structural depth {format_length(shortfall, u, precision=3)} thinner "
                 f"(now {format_length(project.structure.depth, u)})")
     if key == "side_friction":
@@ -1097,7 +1141,8 @@ def _change_text(project: Project, key: str, shortfall: float, ls: LayoutSearch)
     return f"lanes {format_length(shortfall, u, precision=3)} wider"
 
 
-def _explain(project: Project, layout: str, feasible_layouts: set[str]) -> tuple[tuple[dict, ...], tuple | None]:
+def _explain(project: Project, layout: str, feasible_layouts: set[str],
+             relaxations: bool = True) -> tuple[tuple[dict, ...], tuple | None]:
     """Each constraint that alone keeps the layout from working, by how much, and the
     smallest change that fixes it, each change verified by searching and fully
     checking the changed project.  Returns the items and the least-failing design
@@ -1106,7 +1151,7 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str]) -> tuple
     items: list[dict] = []
     least = None
     blocked: list[str] = []
-    for key in _candidate_keys(project):
+    for key in (_candidate_keys(project) if relaxations else ()):
         base = project
         if key == "footprint" and project.search.range_from_plot:
             # A range taken from the plot grows with it.
@@ -1118,6 +1163,11 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str]) -> tuple
         if not ls.feasible:
             continue
         fam, r = ls.family, ls.radius
+        if key == "clear_height":
+            # The least headroom shortfall of that family: its largest headroom over the
+            # radii where every other rule holds (sampled, then Brent's method).
+            space = _layout_space(project, layout, frozenset({key}))
+            r = _best_headroom(space, fam.turns, ls.region)[1]
         m = screen(project, fam, [r]).margins.get(key)
         if m is None or m[0] >= -1e-9:
             continue  # met anyway: this constraint is not what blocks
@@ -1148,7 +1198,7 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str]) -> tuple
         items.append(item)
         if least is None:
             least = (fam, r, key)
-    if not items:
+    if not items and relaxations:
         # No single change suffices: name what fails at the least-bad radius.
         blocked = [k for k in _candidate_keys(project)]
         items.append({"constraint": "several", "change": "no single change is enough: relax two or more of "
@@ -1221,11 +1271,22 @@ def design(project: Project) -> DesignResult:
             cloud += _cloud(project, opt)
             options.append(opt)
             continue
-        expl, least = _explain(project, layout, feasible_layouts)
-        fam, r = (least[0], least[1]) if least else (ls.family, ls.radius)
-        row_ev = evaluate(family_project(project, fam, r)) if fam is not None else None
+        expl, least = _explain(project, layout, feasible_layouts, relaxations=not ls.feasible)
+        if ls.feasible and ev is not None:
+            # The search's design meets every screened rule; what fails is measured only
+            # by the full check (vehicle, approaches), on every feasible radius tried.
+            full = tuple({"constraint": c.id, "shortfall": round(-c.margin, 6), "at_radius_m": round(ls.radius, 6),
+                          "turns_per_storey": list(ls.family.turns),
+                          "change": _full_check_hint(c.id), "verified": False,
+                          "verified_result": "fails at every feasible radius of the best turns per storey"}
+                         for c in ev.checks if not c.ok and c.margin is not None)
+            expl = full + tuple(e for e in expl if e.get("constraint") != "several")
+            fam, r, binding, row_ev = ls.family, ls.radius, "least-failing: fails only full checks", ev
+        else:
+            fam, r = (least[0], least[1]) if least else (ls.family, ls.radius)
+            binding = f"least-failing: meets every rule but {least[2]}" if least else "infeasible"
+            row_ev = evaluate(family_project(project, fam, r)) if fam is not None else None
         value = float(_objective(screen(project, fam, [r]), objective)[0]) if fam is not None else math.inf
-        binding = f"least-failing: meets every rule but {least[2]}" if least else "infeasible"
         options.append(Option(layout, fam, row_ev, binding, False, expl, value, ls.searched, ls.notes))
     ranked = sorted(options, key=lambda o: (not o.feasible, o.objective_value))
     best = 0 if ranked and ranked[0].feasible else None

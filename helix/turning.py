@@ -26,6 +26,7 @@ import numpy as np
 from .vehicle import Vehicle
 
 __all__ = ["SweptBand", "steady_swept_band", "rear_radius_from_front", "lane_width_needed", "min_rear_axle_radius",
+           "hugging_inner_rear_axle", "hugging_outer_rear_axle",
            "transient_swept_band", "side_friction", "speed_at_friction"]
 
 
@@ -68,18 +69,39 @@ def min_rear_axle_radius(vehicle: Vehicle) -> float:
     return max(math.sqrt(r * r - vehicle.wheelbase ** 2) - 0.5 * vehicle.width, 0.0)
 
 
-def lane_width_needed(vehicle: Vehicle, lane_inner_radius: float, clearance: float) -> tuple[float, SweptBand]:
+def lane_width_needed(vehicle: Vehicle, lane_inner_radius: float, clearance: float,
+                      outer_clearance: float | None = None) -> tuple[float, SweptBand]:
     """Smallest lane width that holds the steady-state swept band with ``clearance``
-    to each kerb, for a lane whose inner kerb is at ``lane_inner_radius``.
+    to the inner kerb and ``outer_clearance`` (default: the same) to the outer kerb,
+    for a lane whose inner kerb is at ``lane_inner_radius``.
 
     The narrowest band comes from hugging the inner kerb: the inner rear body side at
     ``lane_inner_radius + clearance``, unless that is tighter than the vehicle can
     steer (its minimum turning radius), in which case it runs on its tightest circle;
-    the lane must then reach the outer front corner plus ``clearance``.
+    the lane must then reach the outer front corner plus ``outer_clearance``.
     """
-    rr = max(lane_inner_radius + clearance + 0.5 * vehicle.width, min_rear_axle_radius(vehicle))
+    outer_clearance = clearance if outer_clearance is None else outer_clearance
+    rr = hugging_inner_rear_axle(vehicle, lane_inner_radius, clearance)
     band = steady_swept_band(vehicle, rr)
-    return band.outer_radius + clearance - lane_inner_radius, band
+    return band.outer_radius + outer_clearance - lane_inner_radius, band
+
+
+def hugging_inner_rear_axle(vehicle: Vehicle, lane_inner_radius: float, clearance: float) -> float:
+    """Rear-axle centre radius of the vehicle hugging the inner kerb: inner rear body
+    side ``clearance`` off the kerb, or the tightest circle the vehicle can steer."""
+    return max(lane_inner_radius + clearance + 0.5 * vehicle.width, min_rear_axle_radius(vehicle))
+
+
+def hugging_outer_rear_axle(vehicle: Vehicle, lane_outer_radius: float, clearance: float) -> float:
+    """Rear-axle centre radius of the vehicle hugging the outer kerb: outer front body
+    corner ``clearance`` inside the kerb, ``sqrt((Ro - c)^2 - (WB + OF)^2) - W/2``
+    (the steady-state offtracking formula solved for the rear axle); ``nan`` when the
+    lane is too tight for the body at all."""
+    reach = vehicle.wheelbase + vehicle.front_overhang
+    corner = lane_outer_radius - clearance
+    if corner <= reach:
+        return math.nan
+    return math.sqrt(corner * corner - reach * reach) - 0.5 * vehicle.width
 
 
 def transient_swept_band(vehicle: Vehicle, rear_axle_radius: float, ramp_length: float = 6.0,

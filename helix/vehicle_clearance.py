@@ -60,6 +60,13 @@ class PathProfile:
         # Beyond the ends of the thread the floor continues level.
         return p.level(np.clip(theta, p.start, p.end))
 
+    def grade(self, s) -> np.ndarray:
+        """Gradient along the path at ``s`` (0 on the floor beyond the thread's ends)."""
+        p = self.profile
+        theta = p.start + np.asarray(s, float) / self.radius
+        inside = (theta >= p.start) & (theta <= p.end)
+        return np.where(inside, p.slope(np.clip(theta, p.start, p.end)) / self.radius, 0.0)
+
     def theta(self, s) -> np.ndarray:
         return self.profile.start + np.asarray(s, float) / self.radius
 
@@ -156,9 +163,12 @@ def body_clearances(vehicle: Vehicle, path: PathProfile, s_a, facing: str = "up"
                     soffit: Callable | None = None, samples: int = 25) -> dict[str, tuple[np.ndarray, np.ndarray]]:
     """Clearances of every part with the vehicle's lower contact at ``s_a``.
 
-    Returns ``part -> (clearance, s_point)`` arrays over ``s_a``.  Clearance is the
-    vertical gap times the cosine of the body's pitch, i.e. the distance normal to the
-    chord.  ``soffit(s)`` (level of the underside of the structure overhead) adds the
+    Returns ``part -> (clearance, s_point)`` arrays over ``s_a``.  The underbody
+    clearance is the distance of the surface, normal to the chord, from the underbody
+    line; an overhang's is the distance of its lowest point, normal to the running
+    surface below it (one convention facing up or down: the configurations mirror each
+    other across the bisector of a sag); the roof's is the vertical gap to the soffit
+    times the cosine of the body's pitch.  ``soffit(s)`` (level of the underside of the structure overhead) adds the
     "roof" part.
     """
     s_a, za, s_b, zb, us, uz = place(vehicle, path, s_a, facing)
@@ -166,7 +176,9 @@ def body_clearances(vehicle: Vehicle, path: PathProfile, s_a, facing: str = "up"
     out: dict[str, tuple[np.ndarray, np.ndarray]] = {}
 
     def gap(ps, pz):
-        return (pz - path.z(ps)) * us[:, None]
+        # Normal to the running surface under the point: the same distance whichever
+        # way the vehicle faces (a vertical gap would differ by the cosine of the grade).
+        return (pz - path.z(ps)) / np.sqrt(1.0 + path.grade(ps) ** 2)
 
     def minimum(c, ps):
         k = np.argmin(c, axis=1)

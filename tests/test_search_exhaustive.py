@@ -43,7 +43,8 @@ def exhaustive(project, layout: str, objective: str):
     # The rules on the radius alone (kerbs, widths, footprint, ...) depend on neither the
     # turns nor the levels: evaluate them once on the whole grid, on the first storey.
     keep = np.zeros(len(grid), bool)
-    first = replace(project, levels=project.levels[:2])
+    first = replace(project, levels=project.levels[:2],
+                    design=replace(project.design, turns_per_storey=project.design.turns_per_storey[:1]))
     for lo in range(0, len(grid), 50000):
         cheap = screen(first, Family(layout, combos[0][:1], widths), grid[lo:lo + 50000], with_headroom=False)
         keep[lo:lo + 50000] = np.all([cheap.margins[k] >= -1e-9 for k in RADIUS_KEYS + ("geometry",)
@@ -156,11 +157,57 @@ def test_search_equals_brute_force(tmp_path_factory, d):
 # ----------------------------------------------------------------------------------
 # The reproducers: each with its stated right answer
 
-DEMO = "configs/demo-search.yaml"
+# The search demo as first issued: a 24.8 m plot where a double helix fits and the
+# two-way single helix and the concentric pair do not; short floor approaches.
+NARROW_PLOT = """\
+# Invented test scenario, not a real project: a narrow infill plot for a five-level car
+# park whose helix must carry traffic both ways.  A two-way single helix does not fit
+# the plot; a double interleaved helix does.  Metric units.  Every number here is made
+# up to show how helix is used; none describes a real building.
+project:
+  name: Cooper's Yard car park (invented demo)
+  notes: Helix search for a tight corner plot; IStructE-style rules; which layout fits?
+
+levels:
+  - {name: Ground, level: 0.000 m}
+  - {name: Level 1, height: 2.90 m}
+  - {name: Level 2, height: 2.90 m}
+  - {name: Level 3, height: 2.90 m}
+  - {name: Level 4, height: 2.90 m}
+
+structure:
+  slab_depth: 250 mm
+  hanging_depth: 200 mm
+  wall_thickness: 250 mm
+
+site:
+  width: 24.8 m
+  depth: 30.0 m
+  margin: 0.30 m
+
+traffic: two-way
+vehicle: aashto-p
+rules: istructe-2011
+
+design:
+  layouts: [single-two-way, double, concentric]
+  centre_radius: {min: 4.0 m, max: 20.0 m}
+  turns_per_storey: {choices: [0.5, 1.0]}
+  lane_width: auto             # the larger of the rule minimum and the swept path
+  objective: footprint         # or gradient, drive, headroom
+  start_bearing: 270 deg
+  approach: {length: 2.0 m}    # short floor aisles: only the ramp itself is compared
+"""
+
+
+def _write(tmp_path, text: str, name: str = "p.yaml"):
+    path = tmp_path / name
+    path.write_text(text)
+    return path
 
 
 def _demo(tmp_path, **subs):
-    text = open(DEMO).read()
+    text = NARROW_PLOT
     for old, new in subs.items():
         assert old in text
         text = text.replace(old, new)
@@ -183,7 +230,7 @@ def test_no_range_hides_the_double_helix(tmp_path, rng):
     assert best.binding == "gradient_centre_line"
 
 
-def test_failing_rows_are_their_layouts_best_designs():
+def test_failing_rows_are_their_layouts_best_designs(tmp_path):
     # Common practice, no single source, worked by hand: the passenger car on its
     # tightest circle sweeps an outer front corner at hypot(sqrt(7.3^2 - 3.4^2), 3.4 +
     # 0.9) = 7.7577 m (from memory: AASHTO Green Book 2011, P minimum turning radius
@@ -192,7 +239,7 @@ def test_failing_rows_are_their_layouts_best_designs():
     # table 4.6: 7.0 m for two lanes), then the 0.5 m central kerb and a 3.5 m outer lane.
     # Concentric: a 3.65 m inner helix, the 0.3 m divider, a 3.65 m outer helix.  Plus
     # 0.6 m clearance outside (IStructE 4th ed. table 4.5), the 0.25 m wall.
-    res = helix.design(helix.load_project(DEMO))
+    res = helix.design(_demo(tmp_path))
     by = {o.layout: o for o in res.options}
     corner = math.hypot(math.sqrt(7.3 ** 2 - 3.4 ** 2), 3.4 + 0.9)
     two_way = 2 * (corner + 0.5 + 3.5 + 0.6 + 0.25)
@@ -235,6 +282,7 @@ def test_half_turn_double_helix_found_under_a_tall_ground_storey(tmp_path):
           layouts: [single-one-way, single-two-way, double, concentric]
           centre_radius: {min: 4 m, max: 20 m}
           lane_width: auto
+          approach: {length: 2.0 m}    # short floor aisles: the turns are what is tested
         """)
     path = tmp_path / "tall.yaml"
     path.write_text(text)
@@ -274,6 +322,7 @@ def test_mixed_turns_found_where_uniform_turns_fail(tmp_path):
           centre_radius: {min: 3 m, max: 20 m}
           turns_per_storey: {choices: [1, 2]}
           lane_width: auto
+          approach: {length: 2.0 m}
         """)
     path = tmp_path / "mixed.yaml"
     path.write_text(text)
@@ -296,17 +345,21 @@ def ev_ok(project, got) -> bool:
 
 def test_binding_is_the_transition_switch(tmp_path):
     # Under conservative-default (transitions where the grade changes by 8 % or more,
-    # common practice, no single source) a two-way half-turn helix is limited by the
+    # common practice, no single source) a one-way half-turn helix is limited by the
     # radius where transitions appear: below it the run steepens past 1:12.  The switch
-    # radius is the closed form (H / 0.08 + L) / pi with the 3.0 m landing.
+    # radius is the closed form (H / 0.08 + L) / pi with the rule set's landing L.
     p = _demo(tmp_path, **{"rules: istructe-2011": "rules: conservative-default",
-                           "layouts: [single-two-way, double, concentric]": "layouts: [single-two-way]",
+                           "traffic: two-way": "traffic: one-way",
+                           "layouts: [single-two-way, double, concentric]": "layouts: [single-one-way]",
                            "choices: [0.5, 1.0]": "choices: [0.5]", "width: 24.8 m": "width: 60 m",
                            "depth: 30.0 m": "depth: 60 m", "max: 20.0 m": "max: 28 m"})
-    got = search_layout(p, "single-two-way")
+    got = search_layout(p, "single-one-way")
     landing = p.rules.landing_length.value
     assert got.radius == pytest.approx((2.9 / 0.08 + landing) / math.pi, abs=1e-6)
     assert got.binding.startswith("transitions needed")
+    # just below it the run with its transitions is steeper than 1:12 on the centre line
+    below = screen(p, got.family, [got.radius - 1e-4])
+    assert below.margins["gradient_centre_line"][0] < 0
 
 
 def test_range_below_the_carriageway_is_clipped_with_a_note(tmp_path):
@@ -314,7 +367,7 @@ def test_range_below_the_carriageway_is_clipped_with_a_note(tmp_path):
     got = search_layout(p, "single-two-way")
     assert any("clipped" in n for n in got.notes)
     # imperial projects get the note in feet and inches
-    text = open(DEMO).read().replace("{min: 4.0 m, max: 20.0 m}", "{min: 3 ft, max: 60 ft}")
+    text = NARROW_PLOT.replace("{min: 4.0 m, max: 20.0 m}", "{min: 3 ft, max: 60 ft}")
     text = text.replace("2.90 m", "9'-6\"").replace("level: 0.000 m", "level: 0 ft")
     path = tmp_path / "imp.yaml"
     path.write_text(text)
@@ -351,6 +404,7 @@ def test_pinned_bearings_restrict_the_turns(tmp_path):
           centre_radius: {min: 4 m, max: 19 m}
           turns_per_storey: {choices: [0.5, 1]}
           lane_width: auto
+          approach: {length: 2.0 m}
         """)
     path = tmp_path / "pin.yaml"
     path.write_text(text)

@@ -76,14 +76,15 @@ def test_sharp_crest_grounds_at_the_breakover_angle(name):
 def test_hand_computed_crest_and_sag():
     # Common practice, no single source (plain geometry, worked by hand):
     # crest of 6 deg, vehicle symmetric over it: clearance h - (L/2) tan(3 deg);
-    # sag from level to a 12 % grade, front wheels at the kink: h_f - 0.12 * OF.
+    # sag from level to a 12 % grade, front wheels at the kink: the overhang's lowest point
+    # h_f - 0.12 * OF above the slope, (h_f - 0.12 * OF) / sqrt(1 + 0.12^2) normal to it.
     v = vehicle("aashto-p")
     a = math.radians(6.0)
     crest = minimum_clearance(v, sharp_crest_profile(a), facings=("up",))["underbody"]
     assert crest.clearance == pytest.approx(0.14 - 1.7 * math.tan(math.radians(3.0)), abs=1e-6)
     sag = _straight_profile([0.0, 20.0, 40.0], [0.0, 0.12])
     front = minimum_clearance(v, sag, facings=("up",))["front overhang"]
-    assert front.clearance == pytest.approx(0.20 - 0.12 * 0.9, abs=1e-6)
+    assert front.clearance == pytest.approx((0.20 - 0.12 * 0.9) / math.sqrt(1 + 0.12 ** 2), abs=1e-6)
 
 
 def test_common_practice_transition_against_the_vehicles():
