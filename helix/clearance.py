@@ -13,7 +13,6 @@ evaluates any points, for figures and for brute-force cross-checks.
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np

@@ -2,16 +2,12 @@
 
 The design search describes "the radii where a constraint is met" exactly, as an
 :class:`IntervalSet` whose ends are roots of the constraint's margin (or the radii where
-the alignment switches, such as transitions appearing).  Two finders:
-
-* :func:`monotone_region` for a margin that is monotone in the radius on an interval
-  (gradient, kerb radii, swept width, side friction, footprint): one sign test at each
-  end and one Brent root; the monotonicity is checked at a few interior points and a
-  violation raises, so a wrong assumption cannot pass silently.
-* :func:`certified_region` for a margin that is not monotone but whose change over a
-  radius interval has a computable bound (headroom, see :mod:`helix.search`):
-  adaptive bisection that keeps a cell only when the bound proves its sign, so no
-  window of feasible radii, however narrow, falls between samples.
+the alignment switches, such as transitions appearing).  Margins monotone on a piece
+get one Brent root each (:func:`helix.search._regions_of`); a margin that is not
+monotone but whose change over a radius interval has a computable bound (headroom) is
+resolved by :func:`certified_region`: adaptive bisection that keeps or drops a cell only
+when the bound proves its sign, so no window of feasible radii, however narrow, falls
+between samples.
 
 References
 ----------
@@ -23,15 +19,12 @@ R. E. Moore, R. B. Kearfott and M. J. Cloud, *Introduction to Interval Analysis*
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Callable, Iterable
 
 import numpy as np
 
-from .roots import brent_root
-
-__all__ = ["Interval", "IntervalSet", "monotone_region", "certified_region", "RegionError"]
+__all__ = ["Interval", "IntervalSet", "Cell", "certified_region", "RegionError"]
 
 #: Radii closer than this are one point (m); boundaries are found to about a tenth of it.
 TOL = 1e-6
@@ -109,9 +102,6 @@ class IntervalSet:
                 j += 1
         return IntervalSet(tuple(out))
 
-    def contains(self, r: float) -> bool:
-        return any(p.lo - 1e-12 <= r <= p.hi + 1e-12 for p in self.parts)
-
     def label_at(self, r: float) -> str:
         """What bounds the set at ``r`` (an end of one of its intervals), or ''."""
         for p in self.parts:
@@ -123,54 +113,6 @@ class IntervalSet:
 
     def as_list(self) -> list[tuple[float, float]]:
         return [(p.lo, p.hi) for p in self.parts]
-
-
-def _root_inside(f: Callable[[float], float], a: float, b: float) -> tuple[float, float]:
-    """The last radius where ``f`` has the sign of ``f(a)`` and the first with the sign
-    of ``f(b)``, at most about ``TOL / 10`` apart (``f(a)`` and ``f(b)`` differ in sign)."""
-    fa = f(a)
-    r = brent_root(f, a, b, xtol=0.05 * TOL, rtol=1e-13)
-    # Brent returns a point within the tolerance on either side: step out to a point of
-    # each sign so both ends of a boundary are radii actually evaluated.
-    step = 0.05 * TOL
-    lo, hi = r, r
-    for _ in range(60):
-        if (f(lo) >= 0) == (fa >= 0) and lo >= a:
-            break
-        lo = max(a, lo - step)
-        step *= 2
-    step = 0.05 * TOL
-    for _ in range(60):
-        if (f(hi) >= 0) != (fa >= 0) and hi <= b:
-            break
-        hi = min(b, hi + step)
-        step *= 2
-    return lo, hi
-
-
-def monotone_region(f: Callable[[float], float], a: float, b: float, label: str,
-                    a_by: str = "", b_by: str = "", probes: int = 7) -> IntervalSet:
-    """Radii of ``[a, b]`` where ``f >= 0``, for ``f`` monotone on ``[a, b]``.
-
-    The end found by root finding carries ``label``; the ends of ``[a, b]`` carry
-    ``a_by`` and ``b_by``.  Raises :class:`RegionError` if the probes show that ``f``
-    changes sign more than once.
-    """
-    xs = np.linspace(a, b, probes) if b > a else np.array([a])
-    vals = [f(float(x)) for x in xs]
-    signs = [v >= 0 for v in vals]
-    changes = sum(1 for s, t in zip(signs, signs[1:]) if s != t)
-    if changes > 1:
-        raise RegionError(f"{label}: not monotone on [{a:.6g}, {b:.6g}]")
-    if all(signs):
-        return IntervalSet.of(a, b, a_by, b_by)
-    if not any(signs):
-        return IntervalSet()
-    k = next(i for i in range(len(signs) - 1) if signs[i] != signs[i + 1])
-    lo, hi = _root_inside(f, float(xs[k]), float(xs[k + 1]))
-    if signs[0]:  # met below the root: decreasing margin
-        return IntervalSet.of(a, lo, a_by, label)
-    return IntervalSet.of(hi, b, label, b_by)
 
 
 @dataclass(frozen=True)

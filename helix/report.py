@@ -19,7 +19,7 @@ from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
 
 from .evaluate import Evaluation  # noqa: E402
 from .figures import A4_LANDSCAPE, FIGURES, PALETTE, STYLE  # noqa: E402
-from .results import CAUTION, drive_time, format_shortfall, searched_text  # noqa: E402
+from .results import CAUTION, drive_time, format_shortfall, searched_text, turns_text  # noqa: E402
 from .setting_out import stations  # noqa: E402
 from .units import format_gradient, format_length, format_level  # noqa: E402
 
@@ -123,9 +123,10 @@ def _comparison(result) -> list[tuple[str, object]]:
     for rank, o in enumerate(result.options, 1):
         ev = o.evaluation
         if ev is None:
-            rows.append([str(rank), LAYOUT_TITLES[o.layout], "-", "-", "-", "-", "FAIL", "no radius fits"])
+            rows.append([str(rank), LAYOUT_TITLES[o.layout], "-", "-", "-", "-", "-", "FAIL", "no radius fits"])
             continue
-        rows.append([str(rank), LAYOUT_TITLES[o.layout], format_length(ev.helix.threads[0].centre_radius, u),
+        turns = turns_text(s.turns for s in ev.storeys if s.thread == ev.helix.threads[0].name)
+        rows.append([str(rank), LAYOUT_TITLES[o.layout], turns, format_length(ev.helix.threads[0].centre_radius, u),
                      format_length(ev.helix.overall_diameter, u), format_gradient(ev.max_gradient("inner kerb"), u),
                      format_length(ev.headroom.clear, u) if ev.headroom else "-",
                      "pass" if o.feasible else "FAIL", o.binding])
@@ -135,8 +136,8 @@ def _comparison(result) -> list[tuple[str, object]]:
               "the boundary of its binding constraint; a failing layout shows its least-failing design "
               "(every rule met but the one named). Searched: "
               + "; ".join(f"{LAYOUT_TITLES[o.layout]}: {searched_text(o)}" for o in result.options) + "."),
-        ("table", (["#", "layout", "centre radius", "diameter", "grade inner", "headroom", "status", "binding"],
-                   rows, [0.04, 0.22, 0.11, 0.1, 0.12, 0.1, 0.07, 0.24]))]
+        ("table", (["#", "layout", "turns", "centre radius", "diameter", "grade inner", "headroom", "status",
+                    "binding"], rows, [0.03, 0.19, 0.09, 0.1, 0.09, 0.11, 0.08, 0.06, 0.25]))]
     for o in result.options:
         if not o.feasible:
             items = [[e["constraint"], format_shortfall(e, u),

@@ -241,6 +241,13 @@ def option_dict(option) -> dict[str, Any]:
     return data
 
 
+def format_speed(metres_per_second: float, units: str) -> str:
+    """``'15 km/h'`` or ``'9 mph'``."""
+    if units == "imperial":
+        return f"{metres_per_second * 3600 / 1609.344:.0f} mph"
+    return f"{metres_per_second * 3.6:.0f} km/h"
+
+
 def turns_text(turns) -> str:
     """Turns per storey from the bottom, runs of one value written once with a count:
     ``1.5, 1 x3``."""
@@ -341,6 +348,10 @@ def design_table(result) -> str:
     out.append(_table(rows, ["#", "layout", "threads", "turns", "centre radius", "lane", "diameter",
                              "grade inner", "grade centre", "grade outer", "headroom", "drive/storey",
                              "top-bottom", "status", "binding constraint"]))
+    speed = p.rules.design_speed.value if p.rules.design_speed else 15 / 3.6
+    out.append(f"turns: per storey from the bottom; drive/storey: 3-D length of a storey on the first "
+               f"thread's carriageway centre line; top-bottom: that line driven from the top level to the "
+               f"bottom at {format_speed(speed, u)}")
     out.append("")
     for o in result.options:
         if o.feasible:

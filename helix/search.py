@@ -803,7 +803,7 @@ def _pin_ok(project: Project, level: int, cum_turns: float, pins: dict[int, floa
 
 
 def search_layout(project: Project, layout: str, objective: str | None = None, relax=frozenset(),
-                  max_nodes: int = 20000) -> LayoutSearch:
+                  max_nodes: int = 20000, exclude=frozenset()) -> LayoutSearch:
     """The best family and radius of ``layout`` under ``objective``, exactly.
 
     Storey by storey (best-first branch and bound): each node fixes the turns of the
@@ -811,7 +811,8 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
     far (radius-only rules, each fixed storey's gradient rules, and the headroom of every
     storey whose overhead turns are all fixed).  A node's bound never beats what its
     completions can reach, so the first complete node taken is the optimum.  ``relax``
-    names constraints to leave out (for explanations).
+    names constraints to leave out (for explanations); ``exclude`` turns per storey not
+    to choose (found wanting by the full check).
     """
     objective = objective or project.search.objective
     space = _layout_space(project, layout, relax)
@@ -831,7 +832,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
         """The objective at ``r`` with the storeys beyond ``turns`` at their least turns
         (a lower bound over their completions)."""
         s = len(turns)
-        if objective == "footprint":
+        if objective in ("footprint", "fewest_turns"):
             return space.diameter(r)
         if objective == "drive":
             total = sum(space.storey_value(i, t, r, "drive") for i, t in enumerate(turns))
@@ -852,6 +853,8 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
         lb_turns = sum(turns) + min_turns_after[len(turns)]
         if objective == "headroom":
             return (-head_ub, lb_turns)  # an upper bound of the largest headroom
+        if objective == "fewest_turns":  # the largest pitches first (explaining headroom)
+            return (lb_turns, best_point(region, turns)[0])
         return (best_point(region, turns)[0], lb_turns)
 
     import heapq
@@ -866,6 +869,8 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
         if best is not None and key >= best[0]:
             break
         s = len(turns)
+        if s == n and turns in exclude:
+            continue
         if s == n:
             if objective == "headroom":
                 value, r = _best_headroom(space, turns, region)
@@ -940,7 +945,7 @@ def _best_headroom(space: LayoutSpace, turns: tuple, region: IntervalSet) -> tup
 
 
 def _objective(screen_: Screen, objective: str) -> np.ndarray:
-    if objective == "footprint":
+    if objective in ("footprint", "fewest_turns"):
         return screen_.diameter
     if objective == "gradient":
         return screen_.steepest["inner"]
@@ -1016,17 +1021,36 @@ def _verified(project: Project, layout: str, objective: str | None = None,
     the radius moves along the family's feasible radii to where they pass (they grow
     with the radius as the grade changes soften and the threads spread; checked at the
     ends of each part, the boundary by root finding)."""
-    ls = search_layout(project, layout, objective, relax)
-    if not ls.feasible:
+    tried: list[tuple] = []
+    first = None
+    for _ in range(4):  # the best turns, then up to three next best, if full checks fail
+        ls = search_layout(project, layout, objective, relax, exclude=frozenset(tried))
+        if not ls.feasible:
+            break
+        ls, ev, ok = _verify_family(project, ls, objective, relax)
+        if ok:
+            if tried:
+                ls = replace(ls, notes=ls.notes + (f"turns {', '.join('/'.join(f'{t:g}' for t in x) for x in tried)} "
+                                                   "fail the full check on every feasible radius; the next best kept",))
+            return ls, ev
+        first = first or (ls, ev)
+        if not any(k in FULL_CHECK_ONLY for k in (c.id for c in ev.checks if not c.ok)):
+            break
+        tried.append(ls.family.turns)
+    if first is None:
         return ls, None
+    return first
+
+
+def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tuple[LayoutSearch, Evaluation, bool]:
     ev = evaluate(family_project(project, ls.family, ls.radius))
     failing = [c.id for c in ev.checks if not c.ok and c.id not in relax]
     if not failing:
-        return ls, ev
+        return ls, ev, True
     if any(k not in FULL_CHECK_ONLY for k in failing):
         note = (f"the full check of the chosen design fails {', '.join(failing)} although the search's "
                 "margins pass; reported as failing")
-        return replace(ls, notes=ls.notes + (note,)), ev
+        return replace(ls, notes=ls.notes + (note,)), ev, False
     fam = ls.family
     ids = set(failing)
     f = lambda r: _full_check_margin(project, fam, r, ids)
@@ -1042,15 +1066,14 @@ def _verified(project: Project, layout: str, objective: str | None = None,
         else:
             lo, hi = _boundary(f, a, b)
             r = hi if fb >= 0 else lo
-            if (fb >= 0) != low:  # the clearance shrinks with the radius there
+            if (fb >= 0) != low:  # the margin shrinks with the radius there
                 r = a if fa >= 0 else b
-        ev = evaluate(family_project(project, fam, r))
-        if ev.ok:
+        ev2 = evaluate(family_project(project, fam, r))
+        if ev2.ok:
             value = float(_objective(screen(project, fam, [r]), objective or project.search.objective)[0])
-            return replace(ls, radius=float(r), binding=failing[0], objective_value=value), ev
-    note = (f"{', '.join(failing)} fails on every feasible radius of {fam.label()}; other turns per "
-            "storey were not tried for it")
-    return replace(ls, notes=ls.notes + (note,)), ev
+            return replace(ls, radius=float(r), binding=failing[0], objective_value=value), ev2, True
+    note = f"{', '.join(failing)} fails on every feasible radius of {fam.label()}"
+    return replace(ls, notes=ls.notes + (note,)), ev, False
 
 
 def _full_check_hint(key: str) -> str:
@@ -1065,6 +1088,8 @@ def _full_check_hint(key: str) -> str:
 def _relaxed_objective(key: str) -> str:
     if key == "footprint":
         return "footprint"
+    if key == "clear_height":
+        return "fewest_turns"  # the largest pitches leave the most headroom
     return "gradient"  # everything else improves with the radius: the largest one
 
 

@@ -1,7 +1,6 @@
 """The design report: PDF, Markdown, DXF, determinism and safe writing."""
 import json
 import math
-from pathlib import Path
 
 import numpy as np
 import pytest

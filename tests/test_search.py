@@ -7,7 +7,6 @@ import pytest
 
 import helix
 from helix.approach import Approach
-from helix.batch import batch_min_headroom, build_profiles
 from helix.clearance import minimum_headroom
 from helix.layout import build_helix
 from helix.project import Level, SearchSpace
