@@ -1308,6 +1308,10 @@ def design(project: Project) -> DesignResult:
             expl = full + tuple(e for e in expl if e.get("constraint") != "several")
             fam, r, binding, row_ev = ls.family, ls.radius, "least-failing: fails only full checks", ev
         else:
+            if not ls.searched.get("nodes") and any("leaves room for the carriageway" in n for n in ls.notes):
+                expl = ({"constraint": "centre_radius", "change": "a radius range reaching above the carriageway "
+                         "width (see the note); every radius of this one leaves no room for the lanes"},) + \
+                    tuple(e for e in expl if e.get("constraint") != "several")
             fam, r = (least[0], least[1]) if least else (ls.family, ls.radius)
             binding = f"least-failing: meets every rule but {least[2]}" if least else "infeasible"
             row_ev = evaluate(family_project(project, fam, r)) if fam is not None else None
