@@ -39,6 +39,7 @@ import numpy as np
 from .batch import BatchProfile, batch_min_headroom, build_profiles, run_slopes
 from .evaluate import Evaluation, evaluate
 from .intervals import TOL, Interval, IntervalSet, RegionError, certified_region
+from .layout import landing_length
 from .roots import brent_root
 from .project import Project
 
@@ -212,8 +213,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
     rises = np.diff(levels)
     n = len(rises)
     plan = np.tile(TWO_PI * np.asarray(family.turns, float)[None, :], (len(radius), 1))
-    landing_len = d.landing_length if d.landing_length is not None else (
-        rules.landing_length.value if rules.landing_length else 0.0)
+    landing_len = landing_length(project, d)
     cross = (d.cross_fall if d.cross_fall is not None else
              (rules.cross_fall_min.value if rules.cross_fall_min else 0.0))
     e = cross if d.cross_fall_inward else -cross
@@ -373,9 +373,8 @@ def _sub(project: Project, s0: int, s1: int) -> Project:
     return replace(project, levels=project.levels[s0:s1 + 1], design=design)
 
 
-def _batch_margins(project: Project, family: Family, radii: np.ndarray, keys, headroom: bool = False,
-                   lower_span=None) -> dict:
-    sc = screen(project, family, radii, with_headroom=headroom, lower_span=lower_span)
+def _batch_margins(project: Project, family: Family, radii: np.ndarray, keys) -> dict:
+    sc = screen(project, family, radii, with_headroom=False)
     return {k: sc.margins[k] for k in keys if k in sc.margins}
 
 
@@ -464,8 +463,7 @@ def _switch_radii(project: Project, family: Family, rise: float, turns: float, a
     fitting.  Between them every margin of the storey is continuous in the radius."""
     d, rules = project.design, project.rules
     plan = TWO_PI * turns
-    land = d.landing_length if d.landing_length is not None else (
-        rules.landing_length.value if rules.landing_length else 0.0)
+    land = landing_length(project, d)
     f = d.landing_fall
     thread_r: list[tuple[float, str]] = []  # switch radii on a thread's own centre line
     if d.transition_length is not None:
@@ -541,13 +539,15 @@ def _kinks(project: Project, family: Family, a: float, b: float) -> list[tuple[f
     return sorted(found)
 
 
-def _pieces(a: float, b: float, cuts: list[tuple[float, str]]) -> list[tuple[float, float, str, str]]:
-    """``[a, b]`` cut at the switch radii, each piece stepped a hair off the cut."""
-    pts = [(a, "")] + [c for c in cuts if a < c[0] < b] + [(b, "")]
+def _pieces(a: float, b: float, cuts: list[tuple[float, str]], a_by: str = "",
+            b_by: str = "") -> list[tuple[float, float, str, str]]:
+    """``[a, b]`` cut at the switch radii, each piece stepped a hair off the cut, with
+    what bounds each end (``a_by`` and ``b_by`` at the ends of ``[a, b]``)."""
+    pts = [(a, a_by, False)] + [(r, label, True) for r, label in cuts if a < r < b] + [(b, b_by, False)]
     out = []
-    for (p, pl), (q, ql) in zip(pts, pts[1:]):
-        lo = p + _EDGE * max(1.0, p) if pl else p
-        hi = q - _EDGE * max(1.0, q) if ql else q
+    for (p, pl, p_cut), (q, ql, q_cut) in zip(pts, pts[1:]):
+        lo = p + _EDGE * max(1.0, p) if p_cut else p
+        hi = q - _EDGE * max(1.0, q) if q_cut else q
         if hi >= lo:
             out.append((lo, hi, pl, ql))
     return out
@@ -618,10 +618,8 @@ class LayoutSpace:
             parts = []
             for seg in self.base.parts:
                 cuts = sorted(_switch_radii(p, fam, rise, turns, seg.lo, seg.hi) + self.kinks)
-                for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, cuts):
-                    r = _regions_of(fn, keys, lo, hi, lb or seg.lo_by if lo == seg.lo else lb,
-                                    hb or seg.hi_by if hi == seg.hi else hb)
-                    parts.extend(r.parts)
+                for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, cuts, seg.lo_by, seg.hi_by):
+                    parts.extend(_regions_of(fn, keys, lo, hi, lb, hb).parts)
             self.gradient_memo[key] = IntervalSet.union_of(parts)
         return self.gradient_memo[key]
 
@@ -663,12 +661,10 @@ class LayoutSpace:
             cuts = list(self.kinks)
             for k, t in enumerate(turns):
                 cuts += _switch_radii(p, fam, levels[k + 1] - levels[k], t, seg.lo, seg.hi)
-            for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, sorted(cuts)):
+            for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, sorted(cuts), seg.lo_by, seg.hi_by):
                 region, c = certified_region(fn, bound, lo, hi, "clear_height")
                 cells += c
-                for q in region.parts:
-                    parts.append(Interval(q.lo, q.hi, q.lo_by or (seg.lo_by if q.lo == seg.lo else lb),
-                                          q.hi_by or (seg.hi_by if q.hi == seg.hi else hb)))
+                parts += [Interval(q.lo, q.hi, q.lo_by or lb, q.hi_by or hb) for q in region.parts]
         out = IntervalSet.union_of(parts)
         self.headroom_memo[key] = out
         self.headroom_cells[key] = cells
@@ -687,14 +683,13 @@ class LayoutSpace:
 def _profile_parameters(project: Project, family: Family, radius: np.ndarray) -> list[dict]:
     """Per thread, the quantities that fix its alignment at each radius: landing and
     transition plan angles, run slopes and landing slope (m/rad), storey plan angles."""
-    d, rules = project.design, project.rules
+    d = project.design
     widths = _lane_widths(project, family, radius)
     central = _central_kerb(project, family)
     carriageway = widths.sum(axis=1) + (central if family.lanes == 2 else 0.0)
     levels = np.array([lv.level for lv in project.levels])
     plan = np.tile(TWO_PI * np.asarray(family.turns, float)[None, :], (len(radius), 1))
-    landing_len = d.landing_length if d.landing_length is not None else (
-        rules.landing_length.value if rules.landing_length else 0.0)
+    landing_len = landing_length(project, d)
     out = []
     for rc in _thread_radii(project, family, radius, carriageway):
         land = landing_len / rc
@@ -779,12 +774,10 @@ def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpa
     keys = [k for k in RADIUS_KEYS if k not in relax]
     kinks = _kinks(project, fam1, built[0], built[1])
     parts = []
-    for lo, hi, lb, hb in _pieces(built[0], built[1], kinks):
-        region = _regions_of(lambda r: _batch_margins(sub, fam1, r, keys), keys, lo, hi,
-                             lb or ("search range (minimum radius)" if built[0] <= sp.radius_min + TOL
-                                    else "geometry") if lo == built[0] else lb,
-                             (hb or "search range (maximum radius)") if hi == built[1] else hb)
-        parts.extend(region.parts)
+    low_by = "search range (minimum radius)" if built[0] <= sp.radius_min + TOL else "geometry"
+    margins = lambda r: _batch_margins(sub, fam1, r, keys)
+    for lo, hi, lb, hb in _pieces(built[0], built[1], kinks, low_by, "search range (maximum radius)"):
+        parts.extend(_regions_of(margins, keys, lo, hi, lb, hb).parts)
     return LayoutSpace(project, layout, widths, choices, frozenset(relax), IntervalSet.union_of(parts),
                        notes, kinks)
 
@@ -1102,13 +1095,13 @@ def _candidate_keys(project: Project) -> list[str]:
     return keys
 
 
-def _changed_project(project: Project, key: str, shortfall: float, ls: LayoutSearch) -> Project | None:
+def _changed_project(project: Project, key: str, shortfall: float, diameter: float) -> Project | None:
     """The project changed just enough (plus a hair) to meet ``key`` by ``shortfall``."""
     from .rules import Limit
     rules, st, site = project.rules, project.structure, project.site
     eps = 1e-4
     if key == "footprint":
-        need = float(screen(project, ls.family, [ls.radius]).diameter[0]) + 2 * site.margin + 1e-3
+        need = diameter + 2 * site.margin + 1e-3
         bigger = replace(project, site=replace(site, width=max(site.width, need), depth=max(site.depth, need)))
         if project.search.range_from_plot:
             bigger = replace(bigger, search=replace(project.search, radius_max=max(project.search.radius_max,
@@ -1141,12 +1134,12 @@ def _changed_project(project: Project, key: str, shortfall: float, ls: LayoutSea
     return None
 
 
-def _change_text(project: Project, key: str, shortfall: float, ls: LayoutSearch) -> str:
+def _change_text(project: Project, key: str, shortfall: float, diameter: float) -> str:
     from .units import format_length
     u = project.units
     site = project.site
     if key == "footprint":
-        need = float(screen(project, ls.family, [ls.radius]).diameter[0]) + 2 * site.margin
+        need = diameter + 2 * site.margin
         return (f"a footprint of at least {format_length(need, u)} x {format_length(need, u)} "
                 f"(now {format_length(site.width, u)} x {format_length(site.depth, u)})")
     if key.startswith("gradient") or key == "target_gradient":
@@ -1193,19 +1186,21 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
             # radii where every other rule holds (sampled, then Brent's method).
             space = _layout_space(project, layout, frozenset({key}))
             r = _best_headroom(space, fam.turns, ls.region)[1]
-        m = screen(project, fam, [r]).margins.get(key)
+        at = screen(project, fam, [r])
+        m = at.margins.get(key)
         if m is None or m[0] >= -1e-9:
             continue  # met anyway: this constraint is not what blocks
         shortfall = float(-m[0])
         item = {"constraint": key, "shortfall": round(shortfall, 6), "at_radius_m": round(r, 6),
-                "turns_per_storey": list(fam.turns), "change": _change_text(project, key, shortfall, ls)}
+                "turns_per_storey": list(fam.turns),
+                "change": _change_text(project, key, shortfall, float(at.diameter[0]))}
         if key == "footprint":
-            item["value"] = round(float(screen(project, fam, [r]).diameter[0]) + 2 * project.site.margin, 4)
+            item["value"] = round(float(at.diameter[0]) + 2 * project.site.margin, 4)
         elif key.startswith("gradient") or key == "target_gradient":
             item["value"] = round(100 * shortfall, 4)
         elif key == "clear_height":
             item["value"] = round(project.structure.depth - shortfall, 4)
-        changed = _changed_project(project, key, shortfall, ls)
+        changed = _changed_project(project, key, shortfall, float(at.diameter[0]))
         if changed is None:
             item["verified"] = False
             item["verified_result"] = "not verified: no such change can be made to the project"
