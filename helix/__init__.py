@@ -2,17 +2,76 @@
 
 The pipeline, one module per stage::
 
-    project = load_project("configs/demo-metric.yaml")   # project.py: file -> Project
-    helix_ = build_helix(project)                        # layout.py: Project -> Helix
-    result = evaluate(project, helix_)                   # evaluate.py: checks, headroom
-    files = figures.render_all(result)                   # figures.py: plan, section
-"""
-from .errors import InputError
-from .evaluate import Evaluation, evaluate
-from .layout import build_helix
-from .project import Project, load_project
-from .search import DesignResult, design
+    project = load_project(demo_file("demo-metric"))     # project.py: file -> Project
+    result = evaluate(project)                           # evaluate.py: helix, checks, headroom
+    options = design(project)                            # search.py: layouts, radii, turns
 
-__version__ = "0.1.0"
-__all__ = ["InputError", "Evaluation", "evaluate", "build_helix", "Project", "load_project",
-           "design", "DesignResult", "__version__"]
+Importing ``helix`` is cheap and changes nothing global: the names below are loaded on
+first use (numpy and matplotlib only come in with the objects that need them).
+
+>>> import helix
+>>> project = helix.load_project(helix.demo_file("demo-metric"))
+>>> project.name
+'Millbrook Street car park (invented demo)'
+"""
+from __future__ import annotations
+
+import importlib
+import sys
+import types
+from typing import TYPE_CHECKING, Any
+
+from ._version import __version__
+
+#: The distribution name on the package index (``pip install helix-ramp-planner``).
+DIST_NAME = "helix-ramp-planner"
+
+_LAZY = {
+    "InputError": "errors", "DesignError": "errors", "OutputError": "errors",
+    "Evaluation": "evaluate", "evaluate": "evaluate",
+    "build_helix": "layout",
+    "Project": "project", "load_project": "project",
+    "DesignResult": "search", "design": "search",
+    "RuleSet": "rules", "Vehicle": "vehicle",
+    "demo_file": "library_files",
+}
+
+__all__ = ["load_project", "evaluate", "design", "Project", "Evaluation", "DesignResult", "Vehicle",
+           "RuleSet", "build_helix", "demo_file", "InputError", "DesignError", "OutputError",
+           "DIST_NAME", "__version__"]
+
+if TYPE_CHECKING:  # what mypy and editors see; at run time, __getattr__ below
+    from .errors import DesignError, InputError, OutputError
+    from .evaluate import Evaluation, evaluate
+    from .layout import build_helix
+    from .library_files import demo_file
+    from .project import Project, load_project
+    from .rules import RuleSet
+    from .search import DesignResult, design
+    from .vehicle import Vehicle
+
+
+def __getattr__(name: str) -> Any:
+    module = _LAZY.get(name)
+    if module is None:
+        raise AttributeError(f"module 'helix' has no attribute {name!r}")
+    value = getattr(importlib.import_module(f".{module}", __name__), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))
+
+
+class _Package(types.ModuleType):
+    """``helix.evaluate`` is the function, as it always was, although a module of the
+    same name exists: importing that module must not rebind the package's name."""
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        if name == "evaluate" and isinstance(value, types.ModuleType):
+            return
+        super().__setattr__(name, value)
+
+
+sys.modules[__name__].__class__ = _Package

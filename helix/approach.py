@@ -101,7 +101,7 @@ def parse_approach(node: Node) -> Approach:
         length=length_node.length(positive=True) if length_node is not None else None,
         grade=grade_node.gradient(non_negative=False) if grade_node is not None else 0.0,
         line=line, angle=angle)
-    node.done()
+    node.done(section="approach")
     return approach
 
 

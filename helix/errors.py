@@ -22,7 +22,7 @@ import math
 import re
 import unicodedata
 from pathlib import Path
-from typing import Any, Callable, Iterator
+from typing import Any, Callable, Iterator, Literal, overload
 
 from . import units
 
@@ -61,15 +61,32 @@ def clean_text(text: str) -> str:
 class InputError(Exception):
     """Bad input, located by file and key path."""
 
-    def __init__(self, file: str | Path, path: str, message: str):
+    def __init__(self, file: str | Path, path: str, message: str,
+                 position: tuple[int, int] | None = None):
         self.file = str(file)
         self.path = path
         self.message = message
+        #: 1-based (line, column) of the key path in the file, where the YAML says it.
+        self.position = position
         super().__init__(self.line())
 
     def line(self) -> str:
-        where = f"{self.file}: {self.path}: " if self.path else f"{self.file}: "
+        """``file:line:column: key.path: message`` (editors and CI annotations read the
+        position), or ``file: key.path: message`` where the position is not known."""
+        at = f"{self.file}:{self.position[0]}:{self.position[1]}" if self.position else self.file
+        where = f"{at}: {self.path}: " if self.path else f"{at}: "
         return clean_text(where + self.message)
+
+    def located(self, positions: dict[str, tuple[int, int]]) -> "InputError":
+        """This error with the position of its key path (or of the nearest enclosing key
+        found in ``positions``, a map of key paths to 1-based line and column)."""
+        if self.position is None:
+            path = self.path
+            while path and path not in positions:
+                path = re.sub(r"(\.[^.\[]*|\[\d+\])$", "", path) if re.search(r"[.\[]", path) else ""
+            self.position = positions.get(path) if path else positions.get("")
+            self.args = (self.line(),)
+        return self
 
 
 class DesignError(ValueError):
@@ -158,6 +175,12 @@ class Node:
     def has(self, key: str) -> bool:
         return isinstance(self.data, dict) and key in self.data and self.data[key] is not None
 
+    @overload
+    def child(self, key: str, required: Literal[True] = True, default: Any = None) -> "Node": ...
+
+    @overload
+    def child(self, key: str, required: bool, default: Any = None) -> "Node | None": ...
+
     def child(self, key: str, required: bool = True, default: Any = None) -> "Node | None":
         self.require_mapping()
         self._used.add(key)
@@ -184,13 +207,24 @@ class Node:
         self.require_mapping()
         return list(self.data)
 
-    def done(self, extra_valid: tuple[str, ...] = ()) -> None:
-        """Refuse keys that were never read."""
+    def done(self, extra_valid: tuple[str, ...] = (), *, section: str | None = None) -> None:
+        """Refuse keys that were never read, or, given the ``section`` of
+        :func:`helix.keys.sections` this mapping is, keys the section does not declare."""
         if not isinstance(self.data, dict):
             return
-        valid = sorted(self._used | set(extra_valid))
+        if section is not None:
+            from .keys import known
+            declared = known(section)
+            undeclared = self._used - declared
+            if undeclared:  # a bug in helix, not in the file: the declarations must list every key read
+                raise RuntimeError(f"keys {sorted(undeclared)} of section {section!r} are read but not "
+                                   "declared in helix/keys.py")
+            accepted = set(declared) | set(extra_valid)
+        else:
+            accepted = self._used | set(extra_valid)
+        valid = sorted(accepted)
         for key in self.data:
-            if key not in self._used and key not in extra_valid:
+            if key not in accepted:
                 close = difflib.get_close_matches(str(key), valid, n=1, cutoff=0.6)
                 hint = f"; did you mean '{close[0]}'?" if close else (
                     f"; valid keys here: {', '.join(valid)}" if valid else "")

@@ -16,12 +16,14 @@ import os
 import re
 import stat
 from pathlib import Path
+from typing import Any
 
 import yaml
 
 from .errors import InputError
 
-__all__ = ["library_dirs", "find_named", "available_names", "read_yaml", "is_path_spec", "MAX_FILE_BYTES"]
+__all__ = ["library_dirs", "find_named", "available_names", "read_yaml", "is_path_spec", "MAX_FILE_BYTES",
+           "demo_file", "key_positions", "read_bounded_stream"]
 
 #: The largest project, rule-set or vehicle file helix reads (the demos are 2 kB).
 MAX_FILE_BYTES = 2 * 1024 * 1024
@@ -38,7 +40,7 @@ class _UniqueKeyLoader(yaml.SafeLoader):
     """``yaml.SafeLoader`` that refuses a key given twice in one mapping (merge keys
     ``<<`` aside: overriding a merged key is what they are for)."""
 
-    def construct_mapping(self, node, deep=False):
+    def construct_mapping(self, node: Any, deep: bool = False) -> Any:
         if isinstance(node, yaml.MappingNode):
             seen = set()
             for key_node, _ in node.value:
@@ -58,6 +60,21 @@ class _UniqueKeyLoader(yaml.SafeLoader):
         return super().construct_mapping(node, deep)
 
 
+def demo_file(name: str) -> Path:
+    """The bundled demo project ``name`` (``demo-metric``, ``demo-imperial``,
+    ``demo-double``, ``demo-search``): an invented scenario, for examples and tests.
+
+    >>> demo_file("demo-metric").name
+    'demo-metric.yaml'
+    """
+    for d in library_dirs():
+        candidate = d / f"{name}.yaml"
+        if _NAME.match(name) and name.startswith("demo-") and candidate.is_file():
+            return candidate
+    names = sorted({p.stem for d in library_dirs() for p in d.glob("demo-*.yaml")})
+    raise ValueError(f"no bundled demo {name!r}; expected one of {', '.join(names)}")
+
+
 def library_dirs() -> list[Path]:
     here = Path(__file__).resolve().parent
     # Installed wheel: helix/library/; source tree or editable install: ../configs/.
@@ -74,6 +91,18 @@ def available_names(kind: str, project_dir: Path | None = None) -> list[str]:
         if d.is_dir():
             names.update(p.stem for p in d.glob("*.yaml"))
     return sorted(names)
+
+
+def library_entries(kind: str) -> list[tuple[str, str, Path]]:
+    """``(name, title, file)`` of every bundled rule set (``kind`` 'rules') or vehicle
+    ('vehicles'), by name."""
+    out = []
+    for name in available_names(kind):
+        path = find_named(kind, name, None, "<library>", kind)
+        data = read_yaml(path)
+        title = data.get("title")
+        out.append((name, str(title) if title is not None else "", path))
+    return out
 
 
 def find_named(kind: str, name: str, project_dir: Path | None,
@@ -144,21 +173,72 @@ def _read_bounded(path: Path, shown: str) -> bytes:
     return b"".join(chunks)
 
 
-def read_yaml(path: Path, display: str | None = None):
-    """Parse a YAML file safely; any failure becomes one InputError line."""
+def read_bounded_stream(stream: Any, shown: str) -> bytes:
+    """At most :data:`MAX_FILE_BYTES` from a binary stream (standard input), or one InputError."""
+    try:
+        raw = stream.read(MAX_FILE_BYTES + 1)
+    except OSError as exc:
+        raise InputError(shown, "", f"cannot be read ({exc.strerror})") from None
+    if len(raw) > MAX_FILE_BYTES:
+        raise InputError(shown, "", f"is more than {MAX_FILE_BYTES // (1024 * 1024)} MB; expected a smaller file")
+    return bytes(raw)
+
+
+def key_positions(root: yaml.Node) -> dict[str, tuple[int, int]]:
+    """1-based (line, column) of every key path of a composed YAML document: a mapping
+    entry at its key, a list element at the element.  Each node is visited once, so a
+    document of aliases (a "billion laughs") costs no more than its text."""
+    out: dict[str, tuple[int, int]] = {}
+    seen: set[int] = set()
+    stack: list[tuple[yaml.Node, str]] = [(root, "")]
+    while stack:
+        node, path = stack.pop()
+        if id(node) in seen:
+            continue
+        seen.add(id(node))
+        if isinstance(node, yaml.MappingNode):
+            for key_node, value_node in node.value:
+                if isinstance(key_node, yaml.ScalarNode):
+                    key = f"{path}.{key_node.value}" if path else str(key_node.value)
+                    out.setdefault(key, (key_node.start_mark.line + 1, key_node.start_mark.column + 1))
+                    stack.append((value_node, key))
+        elif isinstance(node, yaml.SequenceNode):
+            for i, item in enumerate(node.value):
+                key = f"{path}[{i}]"
+                out.setdefault(key, (item.start_mark.line + 1, item.start_mark.column + 1))
+                stack.append((item, key))
+    return out
+
+
+def read_yaml(path: Path, display: str | None = None, *, raw: bytes | None = None,
+              positions: dict[str, tuple[int, int]] | None = None) -> dict[str, Any]:
+    """Parse a YAML file safely; any failure becomes one InputError line.
+
+    ``raw``: the bytes to parse instead of reading ``path`` (standard input).
+    ``positions``: filled with the line and column of every key path (see
+    :func:`key_positions`), for error lines that editors can jump to."""
     shown = display or str(path)
-    raw = _read_bounded(path, shown)
+    if raw is None:
+        raw = _read_bounded(path, shown)
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise InputError(shown, "", f"is not UTF-8 text (byte {exc.start})") from None
     try:
-        data = yaml.load(text, Loader=_UniqueKeyLoader)  # noqa: S506 (a SafeLoader)
+        loader = _UniqueKeyLoader(text)
+        try:
+            node = loader.get_single_node()
+            if positions is not None and node is not None:
+                positions.update(key_positions(node))
+            data = loader.construct_document(node) if node is not None else None
+        finally:
+            loader.dispose()
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         where = f"line {mark.line + 1}, column {mark.column + 1}: " if mark else ""
         problem = getattr(exc, "problem", None) or "invalid YAML"
-        raise InputError(shown, "", f"YAML does not parse: {where}{problem}") from None
+        raise InputError(shown, "", f"YAML does not parse: {where}{problem}",
+                         (mark.line + 1, mark.column + 1) if mark else None) from None
     except RecursionError:
         raise InputError(shown, "", "YAML nests too deeply") from None
     except (ValueError, TypeError, KeyError, IndexError, AttributeError, OverflowError) as exc:

@@ -4,10 +4,10 @@
 to SI once, checks every key, and returns a frozen :class:`Project`.  Any problem
 raises :class:`~helix.errors.InputError` naming the file and the key path.
 
->>> from helix.project import load_project                     # doctest: +SKIP
->>> p = load_project("configs/demo-riverside.yaml")           # doctest: +SKIP
->>> [round(h, 3) for h in p.storey_heights]                   # doctest: +SKIP
-[3.6, 3.0, 3.0, 3.0]
+>>> from helix import demo_file
+>>> p = load_project(demo_file("demo-imperial"))
+>>> p.units, p.storeys
+('imperial', 3)
 """
 from __future__ import annotations
 
@@ -267,7 +267,7 @@ def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
         bn = item.child("bearing", required=False)
         an = item.child("approach", required=False)
         approach = parse_approach(an) if an is not None else None
-        item.done()
+        item.done(section="level")
         levels.append(Level(name, z, bn.angle() if bn is not None else None, approach))
     return tuple(levels), imperial
 
@@ -278,7 +278,7 @@ def _structure(node: Node) -> Structure:
     hang = node.child("hanging_depth", required=False)
     wall = node.child("wall_thickness", required=False)
     cover = node.child("cover_soffit", required=False)
-    node.done()
+    node.done(section="structure")
     return Structure(slab_depth=slab,
                      hanging_depth=hang.length(non_negative=True) if hang else 0.0,
                      wall_thickness=wall.length(non_negative=True) if wall else 0.0,
@@ -294,7 +294,7 @@ def _site(node: Node) -> Site:
     if 2 * margin >= min(width, depth):
         raise margin_node.error(f"got {margin_node.data!r}; expected a margin smaller than half the "  # type: ignore[union-attr]
                                 f"footprint ({min(width, depth) / 2:.2f} m)")
-    node.done()
+    node.done(section="site")
     return Site(width, depth, margin)
 
 
@@ -325,7 +325,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
         lo_node = rc_node.child("min")
         hi_node = rc_node.child("max")
         r_lo, r_hi = lo_node.length(positive=True), hi_node.length(positive=True)
-        rc_node.done()
+        rc_node.done(section="radius_range")
         if r_hi <= r_lo:
             raise hi_node.error(f"got {hi_node.data!r}; expected a maximum above the minimum ({lo_node.data!r})")
         rc = r_lo
@@ -371,7 +371,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
         ch = tps.child("choices")
         choices = tuple(item.number(positive=True, what="a positive number of turns such as 1 or 0.75")
                         for item in ch.items())
-        tps.done()
+        tps.done(section="turns_choices")
         if not choices:
             raise ch.error("got an empty list; expected turns per storey to choose from, e.g. [0.5, 1]")
         turns = (choices[0],) * storeys
@@ -410,7 +410,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
                 t_len = ln.length(non_negative=True)
             kind = tr.child("kind", required=False)
             t_kind = kind.text(TRANSITION_KINDS) if kind else "segment"
-            tr.done()
+            tr.done(section="transition")
     cf = node.child("cross_fall", required=False)
     cross = cf.gradient() if cf else None
     cfd = node.child("cross_fall_direction", required=False)
@@ -442,7 +442,7 @@ def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
             raise where.error(  # type: ignore[union-attr]
                 f"got {t:g} turns for storey {k + 1}; connections '{connections}' expected "
                 f"{'a whole number of turns' if connections == 'same_side' else 'a whole number and a half'}")
-    node.done()
+    node.done(section="design")
     search = SearchSpace(layouts=layouts, radius_min=r_lo, radius_max=r_hi, turns_choices=choices,
                          lane_widths=None if auto_width else widths, target_gradient=target,
                          objective=objective, fixed=fixed, turns_free=turns_free)
@@ -499,7 +499,7 @@ def _rules(node: Node | None, project_dir: Path) -> RuleSet:
     node.require_mapping()
     use = node.child("use")
     override = node.child("override", required=False)
-    node.done()
+    node.done(section="rules")
     if override is not None:
         override.require_mapping()
     return load_rule_set(use.text(), project_dir, override.data if override else None,
@@ -514,29 +514,53 @@ _DESIGN_KEYS = {"lane_widths": "lane_width", "transition_length": "transition.le
                 "transition_kind": "transition.kind", "cross_fall_inward": "cross_fall_direction"}
 
 
-def load_project(path: str | Path) -> Project:
-    """Read and check a project file; see the README for its keys."""
+def load_project(path: str | Path, *, source: bytes | None = None, base_dir: str | Path | None = None) -> Project:
+    """Read and check a project file; see the README (and ``helix/project.schema.json``)
+    for its keys.
+
+    ``source``: the file's bytes, read instead of ``path`` (which is then only the name
+    shown in errors), e.g. standard input; ``base_dir``: the folder that relative paths
+    of rule-set and vehicle files start from (default: the project file's folder).
+    Any problem raises :class:`~helix.errors.InputError`, one line naming the file, the
+    line and column where the YAML gives them, the key path and what was expected.
+
+    >>> from helix import demo_file, load_project
+    >>> p = load_project(demo_file("demo-metric"))
+    >>> [round(h, 2) for h in p.storey_heights]
+    [3.0, 3.0, 2.9, 2.9]
+    >>> load_project("x.yaml", source=b"project: {name: x}\nlevels: 3\n")
+    Traceback (most recent call last):
+    ...
+    helix.errors.InputError: x.yaml:2:1: levels: got 3; expected a list
+    """
+    positions: dict[str, tuple[int, int]] = {}
     try:
-        return _load_project(Path(path))
-    except InvalidValue as exc:
-        owner = exc.file
-        field = _DESIGN_KEYS.get(exc.path, exc.path) if owner == "DesignSpec" else exc.path
-        key = _KEY_OF.get(owner, "")
-        key = key if owner in ("Level", "Limit", "GradientLimit") else key + field
-        raise InputError(str(path), key, exc.message) from None
+        try:
+            return _load_project(Path(path), source, None if base_dir is None else Path(base_dir), positions)
+        except InvalidValue as exc:
+            owner = exc.file
+            field = _DESIGN_KEYS.get(exc.path, exc.path) if owner == "DesignSpec" else exc.path
+            key = _KEY_OF.get(owner, "")
+            key = key if owner in ("Level", "Limit", "GradientLimit") else key + field
+            raise InputError(str(path), key, exc.message) from None
+    except InputError as exc:
+        if exc.file == str(path):  # positions are known in the project file only
+            exc.located(positions)
+        raise
 
 
-def _load_project(path: Path) -> Project:
+def _load_project(path: Path, source: bytes | None = None, base_dir: Path | None = None,
+                  positions: dict[str, tuple[int, int]] | None = None) -> Project:
     shown = str(path)
-    root = Node(read_yaml(path, shown), shown).require_mapping()
-    project_dir = path.resolve().parent
+    root = Node(read_yaml(path, shown, raw=source, positions=positions), shown).require_mapping()
+    project_dir = base_dir if base_dir is not None else path.resolve().parent
 
     meta = root.child("project")
     meta.require_mapping()
     name = meta.child("name").text(max_chars=MAX_NAME)
     notes_node = meta.child("notes", required=False)
     notes = notes_node.text() if notes_node else ""
-    meta.done()
+    meta.done(section="project")
 
     levels, imperial = _levels(root.child("levels"))
     structure = _structure(root.child("structure"))
@@ -552,7 +576,7 @@ def _load_project(path: Path) -> Project:
     design, search = _design(root.child("design"), traffic, len(levels) - 1, rules, units)
     design = _pin_bearings(root.child("levels"), levels, design, check_turns=search.fixed or
                            (search.turns_choices is None and not search.turns_free))
-    root.done()
+    root.done(section="top")
     if structure.cover_soffit is not None and structure.cover_soffit <= levels[-1].level:
         raise InputError(shown, "structure.cover_soffit",
                          f"got {structure.cover_soffit:.3f} m; expected a soffit above the top level "
