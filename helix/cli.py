@@ -5,6 +5,10 @@ Exit status: 0 every check passes, 1 a check fails, 2 bad input, 3 an internal e
 not be written (permission, full disk, a folder locked by another run).  Statuses 2,
 3 and 4 print exactly one line on standard error; nothing else reaches it (warnings
 of numpy and matplotlib are shown only with ``--debug``).
+
+Importing this module is cheap (no numpy, no matplotlib: ``helix --version`` and
+``--help`` stay fast) and changes no global state; :func:`main` picks matplotlib's
+Agg backend before it draws, and reads the process umask only when it writes.
 """
 from __future__ import annotations
 
@@ -16,7 +20,9 @@ import traceback
 import warnings
 from pathlib import Path
 
-from . import __version__
+from typing import Any, Iterator
+
+from ._version import __version__
 from .errors import DesignError, InputError, OutputError, clean_text
 
 #: Where a user reports an internal error.
@@ -30,15 +36,35 @@ EXAMPLES_DESIGN = """example:
 
 EXAMPLES_CHECK = """example:
   helix check configs/demo-metric.yaml -o out/metric
-  helix check configs/demo-imperial.yaml --json > result.json"""
+  helix check configs/demo-imperial.yaml --json > result.json
+  cat project.yaml | helix check -      (relative paths in it start from the working folder)"""
+
+EXAMPLES_LIBRARY = """example:
+  helix library                 list the bundled rule sets and vehicles
+  helix library istructe-2011   show one in full"""
+
+EXAMPLES = """examples:
+  helix design configs/demo-search.yaml                  search layouts, radius, turns; rank and explain
+  helix design configs/demo-search.yaml -o out/search    also write the chosen design's report and figures
+  helix check configs/demo-metric.yaml                   print the checks of a fixed design
+  helix check configs/demo-metric.yaml -o out/metric     also write figures, setting-out CSV, DXF, JSON
+  helix check - < project.yaml                           read the project file from standard input
+  helix library                                          the bundled rule sets and vehicles
+
+PROJECT '-' reads the project file from standard input; relative paths in it (rule-set
+and vehicle files) then start from the working folder.  A project file's keys are in the
+README and in the JSON Schema shipped with helix (helix/project.schema.json)."""
+
+PROJECT_HELP = "project file (YAML); '-' reads standard input (relative paths in it start from the working folder)"
 
 
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="helix",
-        description="Plan and check the helical ramps of multi-storey car parks.",
+        description="Plan and check the helical ramps of multi-storey car parks.\n\n" + EXAMPLES,
         epilog="Exit status: 0 all checks pass, 1 a check fails, 2 bad input, 3 internal error, "
-               "4 outputs could not be written.",
+               "4 outputs could not be written.  A design aid: local codes and licensed "
+               "professionals govern.",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--version", action="version", version=f"helix {__version__}")
     parser.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
@@ -48,7 +74,7 @@ def _parser() -> argparse.ArgumentParser:
                            description="Evaluate the fully specified helix of PROJECT and print "
                                        "its checks.", epilog=EXAMPLES_CHECK,
                            formatter_class=argparse.RawDescriptionHelpFormatter)
-    check.add_argument("project", help="project file (YAML)")
+    check.add_argument("project", help=PROJECT_HELP)
     check.add_argument("-o", "--output", metavar="DIR",
                        help="also write the figures (PNG and SVG), setting_out.csv and result.json to DIR")
     check.add_argument("--json", action="store_true", help="print the result as JSON instead of a table")
@@ -64,7 +90,7 @@ def _parser() -> argparse.ArgumentParser:
                                      "that PROJECT allows; rank the best design of each layout and "
                                      "explain the ones that cannot work.", epilog=EXAMPLES_DESIGN,
                          formatter_class=argparse.RawDescriptionHelpFormatter)
-    dsg.add_argument("project", help="project file (YAML) with search ranges in 'design'")
+    dsg.add_argument("project", help=PROJECT_HELP + "; with search ranges in 'design'")
     dsg.add_argument("-o", "--output", metavar="DIR",
                      help="also write the chosen design's checks and figures, design.json and the "
                           "Pareto figure to DIR")
@@ -74,10 +100,23 @@ def _parser() -> argparse.ArgumentParser:
                      help="also check the chosen design against these rule sets")
     dsg.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                      help="on an internal error print the traceback; show warnings")
+    lib = sub.add_parser("library", help="list the bundled rule sets and vehicles, or show one",
+                         description="List the rule sets and vehicles that ship with helix, with their "
+                                     "titles and sources; with NAME, show that one's file in full.",
+                         epilog=EXAMPLES_LIBRARY, formatter_class=argparse.RawDescriptionHelpFormatter)
+    lib.add_argument("name", nargs="?", metavar="NAME", help="a rule set or vehicle name")
+    lib.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                     help="on an internal error print the traceback; show warnings")
     return parser
 
 
-from .outputs import MANIFEST, refuse_if_locked, write_outputs  # noqa: E402,F401  (MANIFEST: part of the API)
+def __getattr__(name: str) -> Any:
+    # Part of the API since the first release, loaded on first use (outputs.py is not
+    # needed for --version or --help).
+    if name in ("MANIFEST", "refuse_if_locked", "write_outputs"):
+        from . import outputs
+        return getattr(outputs, name)
+    raise AttributeError(f"module 'helix.cli' has no attribute {name!r}")
 
 #: Closest station spacing of the setting-out table: closer adds rows, not information.
 MIN_STATION_SPACING = 0.1
@@ -99,12 +138,34 @@ def _station_spacing(text: str | None, units: str) -> float:
     return value
 
 
-def _check(args) -> int:
-    from .evaluate import evaluate
+STDIN_NAME = "<stdin>"
+
+
+def _load(name: str) -> Any:
+    """The project file ``name``; ``-`` is standard input, its relative paths resolved
+    against the working folder."""
     from .project import load_project
+    if name != "-":
+        return load_project(name)
+    from .library_files import read_bounded_stream
+    raw = read_bounded_stream(sys.stdin.buffer, STDIN_NAME)
+    return load_project(STDIN_NAME, source=raw, base_dir=Path.cwd())
+
+
+def _use_agg() -> None:
+    """Draw off screen: the command line has no window.  Set here, when the command line
+    draws, never when a module is imported (a notebook keeps its own backend)."""
+    import matplotlib
+    if matplotlib.get_backend().lower() != "agg":
+        matplotlib.use("Agg")
+
+
+def _check(args: argparse.Namespace) -> int:
+    from .evaluate import evaluate
+    from .outputs import write_outputs
     from .results import check_table, to_json
 
-    project = load_project(args.project)
+    project = _load(args.project)
     if project.search is not None and not project.search.fixed:
         raise InputError(project.file, "design", "has search ranges or choices; expected one fixed "
                          "design for 'helix check' (run 'helix design' to search)")
@@ -157,6 +218,7 @@ def _result_data(result, comparisons) -> dict:
 
 
 def _check_outputs(result, project, stations, comparisons=(), option=None, search=None) -> dict[str, bytes]:
+    _use_agg()
     from .cad import dxf_available, plan_dxf
     from .figures import start_render
     from .report import report_files
@@ -186,20 +248,22 @@ def _check_outputs(result, project, stations, comparisons=(), option=None, searc
     return files
 
 
-def _design(args) -> int:
-    from .project import load_project
+def _design(args: argparse.Namespace) -> int:
+    from .outputs import write_outputs
     from .results import design_dict, design_table, to_json
     from .search import design
 
-    project = load_project(args.project)
+    project = _load(args.project)
     with _design_errors(project, "a search space whose designs can be built"):
         result = design(project)
     text = to_json(design_dict(result))
     if args.output:
-        from .figures import pareto_figure, figure_bytes
+        _use_agg()
+        from .figures import figure_bytes, pareto_figure
         files: dict[str, bytes] = {}
         if result.best is not None:
             best = result.options[result.best]
+            assert best.evaluation is not None  # the best option is a checked design
             comparisons = _comparisons(best.evaluation.project, best.evaluation.helix, args.rules)
             files.update(_check_outputs(best.evaluation, best.evaluation.project, args.stations, comparisons,
                                         option=best, search=result))
@@ -216,12 +280,56 @@ def _design(args) -> int:
 
 
 @contextlib.contextmanager
-def _design_errors(project, expected: str):
+def _design_errors(project: Any, expected: str) -> Iterator[None]:
     """A design that loads but cannot be built: one input error naming the key."""
     try:
         yield
     except DesignError as exc:
         raise InputError(project.file, exc.path, f"{exc}; expected {exc.expected or expected}") from None
+
+
+def _library(name: str | None) -> int:
+    """``helix library``: the bundled rule sets and vehicles; ``helix library NAME``: one in full."""
+    from .library_files import available_names, find_named, library_entries, read_yaml
+    if name is None:
+        for kind, heading in (("rules", "rule sets"), ("vehicles", "vehicles")):
+            entries = library_entries(kind)
+            sys.stdout.write(f"{heading} ({len(entries)}):\n")
+            width = max(len(n) for n, _, _ in entries)
+            for entry, title, path in entries:
+                sys.stdout.write(f"  {entry:<{width}}  {title}\n")
+                sources = _sources(read_yaml(path))
+                if sources:
+                    first = sources[0] if len(sources[0]) <= 100 else sources[0][:99] + "…"
+                    sys.stdout.write(f"  {'':<{width}}  {len(sources)} source(s), first: {first}\n")
+        sys.stdout.write("'helix library NAME' shows one in full, with the source of every value.\n")
+        return EXIT_PASS
+    for kind in ("rules", "vehicles"):
+        if name in available_names(kind):
+            path = find_named(kind, name, None, "command line", "library")
+            sys.stdout.write(path.read_text(encoding="utf-8"))
+            return EXIT_PASS
+    import difflib
+    names = available_names("rules") + available_names("vehicles")
+    close = difflib.get_close_matches(name, names, n=1, cutoff=0.5)
+    hint = f"did you mean '{close[0]}'?" if close else f"expected one of {', '.join(names)}"
+    raise InputError("command line", "library", f"unknown rule set or vehicle {name[:80]!r}; {hint}")
+
+
+def _sources(data: Any) -> list[str]:
+    """The distinct ``source`` texts of a library file, in order of appearance."""
+    out: list[str] = []
+    stack = [data]
+    while stack:
+        item = stack.pop(0)
+        if isinstance(item, dict):
+            src = item.get("source")
+            if isinstance(src, str) and src not in out:
+                out.append(clean_text(src))
+            stack.extend(v for k, v in item.items() if k != "source")
+        elif isinstance(item, list):
+            stack.extend(item)
+    return out
 
 
 def _error(text: str) -> None:
@@ -245,7 +353,10 @@ def main(argv: list[str] | None = None) -> int:
         if not debug:
             mpl_log.setLevel(logging.CRITICAL)
         try:
+            if args.command == "library":
+                return _library(args.name)
             if getattr(args, "output", None):
+                from .outputs import refuse_if_locked
                 refuse_if_locked(Path(args.output))
             if args.command == "check":
                 return _check(args)

@@ -9,10 +9,8 @@ from __future__ import annotations
 
 import io
 import math
+from typing import Any
 
-import matplotlib
-
-matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 from matplotlib.patches import Circle, FancyArrowPatch, Rectangle, Wedge  # noqa: E402
@@ -38,7 +36,7 @@ PALETTE = {
 }
 THREAD_COLOURS = ("#0072B2", "#D55E00", "#009E73", "#CC79A7")
 
-STYLE = {
+STYLE: Any = {  # matplotlib types rc keys as literals; these are checked by matplotlib itself
     "font.family": "DejaVu Sans",
     "font.size": 9,
     "axes.titlesize": 11,
@@ -420,7 +418,7 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None):
         ax.grid(True, lw=0.3, color="#DDDDDD")
         from matplotlib.lines import Line2D
         from matplotlib.patches import Patch
-        handles = [Patch(fc=THREAD_COLOURS[i % 4], alpha=0.35, ec=THREAD_COLOURS[i % 4], label=f"{t.name} slab")
+        handles: list[Any] = [Patch(fc=THREAD_COLOURS[i % 4], alpha=0.35, ec=THREAD_COLOURS[i % 4], label=f"{t.name} slab")
                    for i, t in enumerate(h.threads)]
         handles += [Patch(fc="none", ec=PALETTE["soffit"], hatch="....", label="hanging structure"),
                     Line2D([], [], color="black", lw=2, label="kerb (schematic)"),
@@ -479,6 +477,7 @@ def clearance_figure(ev: Evaluation):
         fig.subplots_adjust(left=0.08, right=0.97, top=0.86, bottom=0.08, hspace=0.45)
         _title(fig, ev, f"clearances of the design vehicle {v.name}")
         for ax, (kind, vc, label) in zip(axes[:, 0], cases):
+            assert vc is not None  # cases without a contact were left out above
             t = h.threads[vc.thread]
             path = PathProfile(t.profile, vc.radius)
             c = vc.contact
@@ -711,6 +710,7 @@ class PngJob:
         import os
         import pickle
         if self.pid is not None:
+            assert self.read_fd is not None
             chunks = []
             while True:
                 chunk = os.read(self.read_fd, 1 << 20)

@@ -143,7 +143,7 @@ def build_helix(project: Project, spec: DesignSpec | None = None) -> Helix:
     rc = spec.centre_radius
     if spec.layout == "single":
         direction = "up and down" if project.traffic == "two-way" else "up"
-        threads = (_thread(project, spec, "helix", rc, spec.start_bearing, direction),)
+        threads: tuple[Thread, ...] = (_thread(project, spec, "helix", rc, spec.start_bearing, direction),)
     elif spec.layout == "double":
         threads = (
             _thread(project, spec, "up thread", rc, spec.start_bearing, "up"),

@@ -44,8 +44,21 @@ LOCK = ".helix-lock"
 _OURS = re.compile(r"^\.helix-[0-9a-f]{12}\.(?P<name>.+)\.(?:tmp|old)$")
 _PLAIN = re.compile(r"^[^/\\\x00]+$")
 
-_UMASK = os.umask(0)
-os.umask(_UMASK)
+
+
+def _umask() -> int:
+    """The process umask, read when files are written (never at import).  Linux states it
+    in /proc; elsewhere it can only be read by setting it, and is restored at once."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
 
 #: Test hook: called with a label before each step of the rename phase (a test makes
 #: it pause so that a child process can be killed at that exact point).
@@ -80,7 +93,7 @@ class folder_lock:
 
     def __enter__(self) -> "folder_lock":
         try:
-            self.fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o666 & ~_UMASK)
+            self.fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o666 & ~_umask())
         except OSError as exc:
             raise OutputError(self.path.parent, f"cannot be written ({_why(exc)})") from None
         try:
@@ -284,7 +297,7 @@ def write_outputs(directory: Path, files: dict[str, bytes]) -> list[Path]:
                 tmp = _tmp(directory, run, name, "tmp")
                 with open(tmp, "wb") as fh:
                     fh.write(data[name])
-                os.chmod(tmp, 0o666 & ~_UMASK)
+                os.chmod(tmp, 0o666 & ~_umask())
             for name in had_old:
                 _link_old(directory / name, _tmp(directory, run, name, "old"))
             _journal(directory, "forward", run, names, removed, had_old)

@@ -177,6 +177,24 @@ class SearchSpace:
 
 @dataclass(frozen=True)
 class Project:
+    """A checked project file, everything in SI: levels, structure, site, traffic, the
+    design vehicle, the rule set, the design and (for ``helix design``) its search space.
+
+    Made by :func:`load_project`; each field is checked again when built from Python
+    (e.g. with :func:`dataclasses.replace`), so no path builds what the loader refuses.
+
+    >>> import dataclasses, helix
+    >>> p = helix.load_project(helix.demo_file("demo-metric"))
+    >>> p
+    <Project 'Millbrook Street car park (invented demo)': 4 storeys, one-way, single helix, radius 9.00 m, 1 turns per storey; rules istructe-2011, vehicle aashto-p>
+    >>> p.storeys, p.rules.name, p.vehicle.name
+    (4, 'istructe-2011', 'aashto-p')
+    >>> dataclasses.replace(p, traffic="sideways")
+    Traceback (most recent call last):
+    ...
+    helix.errors.InvalidValue: Project: traffic: got 'sideways'; expected one of one-way, two-way
+    """
+
     name: str
     notes: str
     file: str
@@ -210,6 +228,14 @@ class Project:
                 self.design.turns_per_storey, f"one value per storey ({len(levels) - 1})")
         require(self.structure.cover_soffit is None or self.structure.cover_soffit > levels[-1].level, self,
                 "structure.cover_soffit", self.structure.cover_soffit, "a soffit above the top level")
+
+    def __repr__(self) -> str:
+        from .notebook import project_repr
+        return project_repr(self)
+
+    def _repr_html_(self) -> str:
+        from .notebook import project_html
+        return project_html(self)
 
     @property
     def storey_heights(self) -> tuple[float, ...]:
@@ -528,7 +554,7 @@ def load_project(path: str | Path, *, source: bytes | None = None, base_dir: str
     >>> p = load_project(demo_file("demo-metric"))
     >>> [round(h, 2) for h in p.storey_heights]
     [3.0, 3.0, 2.9, 2.9]
-    >>> load_project("x.yaml", source=b"project: {name: x}\nlevels: 3\n")
+    >>> load_project("x.yaml", source=b"project: {name: x}\\nlevels: 3\\n")
     Traceback (most recent call last):
     ...
     helix.errors.InputError: x.yaml:2:1: levels: got 3; expected a list

@@ -12,8 +12,6 @@ import io
 import textwrap
 
 import matplotlib
-
-matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
 
@@ -368,7 +366,7 @@ def _md_table(header, rows) -> str:
 
 
 def _markdown(doc) -> str:
-    out = []
+    out: list[str] = []
     for kind, content in doc:
         if kind == "h1":
             out.append(f"## {content}" if out else f"# {content}")

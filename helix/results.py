@@ -221,7 +221,7 @@ def check_table(ev: Evaluation) -> str:
 
 def option_dict(option) -> dict[str, Any]:
     from .search import LAYOUT_TITLES
-    data = to_dict(option.evaluation) if option.evaluation is not None else {"ok": False}
+    data: dict[str, Any] = to_dict(option.evaluation) if option.evaluation is not None else {"ok": False}
     d = option.evaluation.helix.overall_diameter if option.evaluation is not None else None
     data.update({
         "layout": option.layout,

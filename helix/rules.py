@@ -85,6 +85,17 @@ class TransitionRule:
 
 @dataclass(frozen=True)
 class RuleSet:
+    """A rule book's limits, each a :class:`Limit` (or :class:`GradientLimit`) with its
+    value and source; ``None`` where the rule book sets no limit.
+
+    >>> import helix
+    >>> rules = helix.load_project(helix.demo_file("demo-metric")).rules
+    >>> rules.name, rules.lane_width_one_way.value
+    ('istructe-2011', 3.65)
+    >>> rules.lane_width_one_way.source
+    'IStructE 4th ed. (2011) table 4.6: one-way curved ramp 3.65 m; table checked on a stored copy'
+    """
+
     name: str
     title: str
     notes: str = ""
@@ -240,7 +251,7 @@ def _parse_gradient(node: Node, default_source: str | None) -> tuple[GradientLim
             offset = item.child("offset").length(non_negative=True)
         maxn = item.child("max")
         if isinstance(maxn.data, list):
-            steps = []
+            steps: list[tuple[float, float]] = []
             entries = list(maxn.items())
             if not entries:
                 raise maxn.error("got an empty list; expected gradients by storey rise")

@@ -54,7 +54,7 @@ def _section(section: Section) -> dict[str, Any]:
 def project_schema() -> dict[str, Any]:
     """The JSON Schema (draft 2020-12) of a project file, as a dictionary."""
     all_sections = sections()
-    schema = {
+    schema: dict[str, Any] = {
         "$schema": "https://json-schema.org/draft/2020-12/schema",
         "title": "helix project file",
     }

@@ -41,7 +41,7 @@ from .evaluate import Evaluation, evaluate
 from .intervals import TOL, Interval, IntervalSet, RegionError, certified_region
 from .layout import landing_length
 from .roots import brent_root
-from .project import Project
+from .project import Project, SearchSpace
 
 __all__ = ["Family", "Screen", "Option", "DesignResult", "LayoutSearch", "screen", "design",
            "search_layout", "storey_choices", "family_project", "pareto_mask", "LAYOUT_TITLES"]
@@ -224,7 +224,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
     thread_rc = _thread_radii(project, family, radius, carriageway)
     for g in rules.gradient:
         margins[g.check_id] = np.full(len(radius), np.inf)
-    if project.search.target_gradient is not None:
+    if _space(project).target_gradient is not None:
         margins["target_gradient"] = np.full(len(radius), np.inf)
     inner_min = np.full(len(radius), np.inf)
     lane_outer_min = np.full(len(radius), np.inf)
@@ -264,13 +264,13 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
             for r_ref in _reference_lines(g, rc, ri, lane_lines):
                 margins[g.check_id] = np.minimum(margins[g.check_id],
                                                  np.min(lim - kmax / r_ref[:, None], axis=1))
-        if project.search.target_gradient is not None:
+        if _space(project).target_gradient is not None:
             ref = rules.gradient[0] if rules.gradient else None
             refs = [rc] if ref is None else _reference_lines(ref, rc, ri, lane_lines)
             for r_ref in refs:
                 margins["target_gradient"] = np.minimum(
                     margins["target_gradient"],
-                    project.search.target_gradient - np.max(kmax / r_ref[:, None], axis=1))
+                    _space(project).target_gradient - np.max(kmax / r_ref[:, None], axis=1))
         for a, b in lane_lines:
             lane_outer_min = np.minimum(lane_outer_min, b)
             swept = np.minimum(swept, (b - a) - _swept_need(v, a, c_in, c_out))
@@ -341,8 +341,15 @@ _EDGE = 1e-9  # relative step off a switch radius, to the side it does not belon
 MARGIN_TOL = 1e-9  # a margin this close to zero is met (as in Screen.feasible)
 
 
+def _space(project: Project) -> SearchSpace:
+    """The project's search space (``load_project`` always gives one)."""
+    if project.search is None:
+        raise ValueError("the project has no search space; load it with helix.load_project")
+    return project.search
+
+
 def _widths_for(project: Project, layout: str) -> tuple[float, ...] | None:
-    widths = project.search.lane_widths
+    widths = _space(project).lane_widths
     if widths is None:
         return None
     lanes = 2 if layout == "single-two-way" else 1
@@ -353,7 +360,7 @@ def storey_choices(project: Project, layout: str) -> tuple[tuple[float, ...], ..
     """The turns each storey may take: the project's choices, the layout's usual turns
     when it gives none, or the fixed turns; all filtered by the connections."""
     from .project import _turns_fit
-    sp = project.search
+    sp = _space(project)
     n = project.storeys
     conn = project.design.connections
     if sp.turns_choices is not None:
@@ -488,11 +495,12 @@ def _switch_radii(project: Project, family: Family, rise: float, turns: float, a
             if i == 0:
                 r = rt
             else:  # the outer helix of a concentric pair: its centre is a function of R
-                g = lambda x: _thread_centres(project, family, x)[i] - rt
-                ga, gb = g(a), g(b)
+                def gap(x: float, i: int = i, rt: float = rt) -> float:
+                    return float(_thread_centres(project, family, x)[i] - rt)
+                ga, gb = gap(a), gap(b)
                 if ga * gb > 0:
                     continue
-                r = brent_root(g, a, b, xtol=0.01 * TOL, rtol=1e-14)
+                r = brent_root(gap, a, b, xtol=0.01 * TOL, rtol=1e-14)
             if a < r < b:
                 out.append((r, label))
     return sorted(out)
@@ -615,7 +623,7 @@ class LayoutSpace:
                 m["buildable"] = np.where(np.isfinite(sc.steepest["inner"]), 1.0, -1.0)
                 return m
 
-            parts = []
+            parts: list = []
             for seg in self.base.parts:
                 cuts = sorted(_switch_radii(p, fam, rise, turns, seg.lo, seg.hi) + self.kinks)
                 for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, cuts, seg.lo_by, seg.hi_by):
@@ -754,7 +762,7 @@ class LayoutSearch:
 
 
 def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpace:
-    sp = project.search
+    sp = _space(project)
     widths = _widths_for(project, layout)
     choices = storey_choices(project, layout)
     fam0 = Family(layout, tuple(c[0] for c in choices), widths)
@@ -773,7 +781,7 @@ def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpa
     fam1 = Family(layout, (max(choices[0]),), widths)
     keys = [k for k in RADIUS_KEYS if k not in relax]
     kinks = _kinks(project, fam1, built[0], built[1])
-    parts = []
+    parts: list = []
     low_by = "search range (minimum radius)" if built[0] <= sp.radius_min + TOL else "geometry"
     margins = lambda r: _batch_margins(sub, fam1, r, keys)
     for lo, hi, lb, hb in _pieces(built[0], built[1], kinks, low_by, "search range (maximum radius)"):
@@ -807,7 +815,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
     names constraints to leave out (for explanations); ``exclude`` turns per storey not
     to choose (found wanting by the full check).
     """
-    objective = objective or project.search.objective
+    objective = objective or _space(project).objective
     space = _layout_space(project, layout, relax)
     n = project.storeys
     choices = space.choices
@@ -983,11 +991,31 @@ class Option:
 
 @dataclass(frozen=True)
 class DesignResult:
+    """The outcome of :func:`design`: one :class:`Option` per layout, ranked (feasible
+    first, then by the objective), the index of the best (``None`` when no layout
+    passes), and the Pareto set of the feasible designs.
+
+    >>> import helix
+    >>> result = helix.design(helix.load_project(helix.demo_file("demo-search")))
+    >>> result
+    <DesignResult of ...: best single-two-way, radius 8.01 m, 3 layouts searched>
+    >>> [(o.layout, o.feasible) for o in result.options]
+    [('single-two-way', True), ('concentric', False), ('double', False)]
+    """
+
     project: Project
     options: tuple[Option, ...]  # ranked, feasible first
     best: int | None
     pareto: tuple[dict, ...]  # non-dominated (family, radius) points
     cloud: tuple[dict, ...] = field(default=(), repr=False)  # sampled feasible designs
+
+    def __repr__(self) -> str:
+        from .notebook import design_repr
+        return design_repr(self)
+
+    def _repr_html_(self) -> str:
+        from .notebook import design_html
+        return design_html(self)
 
 
 def pareto_mask(points: np.ndarray) -> np.ndarray:
@@ -1029,6 +1057,7 @@ def _verified(project: Project, layout: str, objective: str | None = None,
         first = first or (ls, ev)
         if not any(k in FULL_CHECK_ONLY for k in (c.id for c in ev.checks if not c.ok)):
             break
+        assert ls.family is not None
         tried.append(ls.family.turns)
     if first is None:
         return ls, None
@@ -1036,6 +1065,7 @@ def _verified(project: Project, layout: str, objective: str | None = None,
 
 
 def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tuple[LayoutSearch, Evaluation, bool]:
+    assert ls.family is not None and ls.radius is not None  # a feasible search names both
     ev = evaluate(family_project(project, ls.family, ls.radius))
     failing = [c.id for c in ev.checks if not c.ok and c.id not in relax]
     if not failing:
@@ -1045,9 +1075,10 @@ def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tupl
                 "margins pass; reported as failing")
         return replace(ls, notes=ls.notes + (note,)), ev, False
     fam = ls.family
+    assert fam is not None
     ids = set(failing)
     f = lambda r: _full_check_margin(project, fam, r, ids)
-    low = (objective or project.search.objective) in ("footprint", "drive")
+    low = (objective or _space(project).objective) in ("footprint", "drive")
     parts = ls.region.parts if low else tuple(reversed(ls.region.parts))
     for part in parts:
         a, b = part.lo, part.hi
@@ -1063,7 +1094,7 @@ def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tupl
                 r = a if fa >= 0 else b
         ev2 = evaluate(family_project(project, fam, r))
         if ev2.ok:
-            value = float(_objective(screen(project, fam, [r]), objective or project.search.objective)[0])
+            value = float(_objective(screen(project, fam, [r]), objective or _space(project).objective)[0])
             return replace(ls, radius=float(r), binding=failing[0], objective_value=value), ev2, True
     note = f"{', '.join(failing)} fails on every feasible radius of {fam.label()}"
     return replace(ls, notes=ls.notes + (note,)), ev, False
@@ -1088,7 +1119,7 @@ def _relaxed_objective(key: str) -> str:
 
 def _candidate_keys(project: Project) -> list[str]:
     keys = ["footprint"] + [g.check_id for g in project.rules.gradient]
-    if project.search.target_gradient is not None:
+    if _space(project).target_gradient is not None:
         keys.append("target_gradient")
     keys.append("clear_height")
     keys += [k for k in RADIUS_KEYS if k != "footprint"]
@@ -1103,8 +1134,8 @@ def _changed_project(project: Project, key: str, shortfall: float, diameter: flo
     if key == "footprint":
         need = diameter + 2 * site.margin + 1e-3
         bigger = replace(project, site=replace(site, width=max(site.width, need), depth=max(site.depth, need)))
-        if project.search.range_from_plot:
-            bigger = replace(bigger, search=replace(project.search, radius_max=max(project.search.radius_max,
+        if _space(project).range_from_plot:
+            bigger = replace(bigger, search=replace(_space(project), radius_max=max(_space(project).radius_max,
                                                                                     0.5 * need)))
         return bigger
     if key.startswith("gradient"):
@@ -1112,8 +1143,9 @@ def _changed_project(project: Project, key: str, shortfall: float, diameter: flo
                        if g.check_id == key else g for g in rules.gradient)
         return replace(project, rules=replace(rules, gradient=limits))
     if key == "target_gradient":
-        return replace(project, search=replace(project.search,
-                                               target_gradient=project.search.target_gradient + shortfall + eps))
+        target = _space(project).target_gradient
+        assert target is not None  # a candidate only when set
+        return replace(project, search=replace(_space(project), target_gradient=target + shortfall + eps))
     if key == "clear_height":
         cut = shortfall + 1e-3
         hanging = max(0.0, st.hanging_depth - cut)
@@ -1124,13 +1156,15 @@ def _changed_project(project: Project, key: str, shortfall: float, diameter: flo
     if key in ("inner_kerb_radius", "outer_kerb_radius", "side_friction"):
         attr = {"side_friction": "side_friction_max"}.get(key, key)
         lim = getattr(rules, attr)
+        assert lim is not None
         new = lim.value + shortfall + eps if key == "side_friction" else lim.value - shortfall - eps
-        return replace(project, rules=replace(rules, **{attr: Limit(new, lim.source)}))
-    if key == "cross_fall":
+        return replace(project, rules=replace(rules, **{attr: Limit(new, lim.source)}))  # type: ignore[arg-type]
+    if key == "cross_fall" and rules.cross_fall_min is not None:
         return replace(project, design=replace(project.design, cross_fall=rules.cross_fall_min.value))
-    if key in ("lane_width", "lane_width_swept") and project.search.lane_widths is not None:
-        widths = tuple(w + shortfall + eps for w in project.search.lane_widths)
-        return replace(project, search=replace(project.search, lane_widths=widths))
+    lane_widths = _space(project).lane_widths
+    if key in ("lane_width", "lane_width_swept") and lane_widths is not None:
+        widths = tuple(w + shortfall + eps for w in lane_widths)
+        return replace(project, search=replace(_space(project), lane_widths=widths))
     return None
 
 
@@ -1171,9 +1205,9 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
     blocked: list[str] = []
     for key in (_candidate_keys(project) if relaxations else ()):
         base = project
-        if key == "footprint" and project.search.range_from_plot:
+        if key == "footprint" and _space(project).range_from_plot:
             # A range taken from the plot grows with it.
-            base = replace(project, search=replace(project.search, radius_max=max(project.search.radius_max, 200.0)))
+            base = replace(project, search=replace(_space(project), radius_max=max(_space(project).radius_max, 200.0)))
         try:
             ls = search_layout(base, layout, _relaxed_objective(key), relax=frozenset({key}))
         except RegionError:
@@ -1181,6 +1215,7 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
         if not ls.feasible:
             continue
         fam, r = ls.family, ls.radius
+        assert fam is not None and r is not None  # a feasible relaxed search names both
         if key == "clear_height":
             # The least headroom shortfall of that family: its largest headroom over the
             # radii where every other rule holds (sampled, then Brent's method).
@@ -1209,6 +1244,7 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
             ok = vls.feasible and vev is not None and vev.ok
             item["verified"] = bool(ok)
             if ok:
+                assert vls.family is not None and vls.radius is not None
                 item["verified_result"] = (f"verified: with this change the layout passes every check at centre "
                                            f"radius {format_length(vls.radius, project.units, precision=3)}, "
                                            f"turns {'/'.join(f'{t:g}' for t in dict.fromkeys(vls.family.turns))}")
@@ -1223,11 +1259,12 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
         blocked = [k for k in _candidate_keys(project)]
         items.append({"constraint": "several", "change": "no single change is enough: relax two or more of "
                       + ", ".join(blocked[:4]) + "; see the checks of the row"})
-    sp = project.search
+    sp = _space(project)
     if sp.turns_choices is not None or not sp.turns_free:
         wider = replace(project, search=replace(sp, turns_choices=None, turns_free=True))
         vls, vev = _verified(wider, layout)
         if vls.feasible and vev is not None and vev.ok:
+            assert vls.family is not None and vls.radius is not None
             turns = "/".join(f"{t:g}" for t in vls.family.turns)
             items.append({"constraint": "turns_per_storey", "value": list(vls.family.turns),
                           "change": f"turns per storey {turns} (outside the choices given)",
@@ -1246,7 +1283,7 @@ def default_space(project: Project):
     turns per storey (storey by storey, as the connections allow), lane widths from the
     rules and the vehicle."""
     from .project import SEARCH_LAYOUTS
-    sp = project.search
+    sp = _space(project)
     r_max = max(0.5 * min(project.site.usable), 3.5)
     return replace(sp, layouts=SEARCH_LAYOUTS, radius_min=3.0, radius_max=r_max, turns_choices=None,
                    turns_free=True, lane_widths=None, fixed=False, range_from_plot=True)
@@ -1255,6 +1292,7 @@ def default_space(project: Project):
 def _cloud(project: Project, option: Option) -> list[dict]:
     out = []
     fam = option.family
+    assert fam is not None
     for lo, hi in option.region:
         radii = np.linspace(lo, hi, 25) if hi > lo else np.array([lo])
         sc = screen(project, fam, radii, with_headroom=False)
@@ -1270,12 +1308,13 @@ def design(project: Project) -> DesignResult:
     """Search every layout of the project's search space; rank and explain them.
 
     A project whose design section is fully fixed is searched over
-    :func:`default_space`."""
-    if project.search.fixed:
+    :func:`default_space`.  See :class:`DesignResult` for an example; the search is
+    described in the module docstring and the README."""
+    if project.search is None or project.search.fixed:
         project = replace(project, search=default_space(project))
-    objective = project.search.objective
+    objective = _space(project).objective
     results = {}
-    for layout in project.search.layouts:
+    for layout in _space(project).layouts:
         try:
             results[layout] = _verified(project, layout)
         except RegionError as exc:  # a margin broke its finder's assumption: say so, do not guess
@@ -1292,7 +1331,11 @@ def design(project: Project) -> DesignResult:
             options.append(opt)
             continue
         expl, least = _explain(project, layout, feasible_layouts, relaxations=not ls.feasible)
+        fam: Family | None
+        r: float | None
+        row_ev: Evaluation | None
         if ls.feasible and ev is not None:
+            assert ls.family is not None and ls.radius is not None
             # The search's design meets every screened rule; what fails is measured only
             # by the full check (vehicle, approaches), on every feasible radius tried.
             full = tuple({"constraint": c.id, "shortfall": round(-c.margin, 6), "at_radius_m": round(ls.radius, 6),
@@ -1309,8 +1352,9 @@ def design(project: Project) -> DesignResult:
                     tuple(e for e in expl if e.get("constraint") != "several")
             fam, r = (least[0], least[1]) if least else (ls.family, ls.radius)
             binding = f"least-failing: meets every rule but {least[2]}" if least else "infeasible"
-            row_ev = evaluate(family_project(project, fam, r)) if fam is not None else None
-        value = float(_objective(screen(project, fam, [r]), objective)[0]) if fam is not None else math.inf
+            row_ev = evaluate(family_project(project, fam, r)) if fam is not None and r is not None else None
+        value = float(_objective(screen(project, fam, [r]), objective)[0]) if fam is not None and r is not None \
+            else math.inf
         options.append(Option(layout, fam, row_ev, binding, False, expl, value, ls.searched, ls.notes))
     ranked = sorted(options, key=lambda o: (not o.feasible, o.objective_value))
     best = 0 if ranked and ranked[0].feasible else None

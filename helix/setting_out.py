@@ -29,7 +29,7 @@ def stations(ev: Evaluation, spacing: float) -> list[dict]:
     rows = []
     for t in ev.helix.threads:
         p = t.profile
-        length = t.chainage(p.end)
+        length = float(t.chainage(p.end))
         regular = p.start + np.arange(0.0, length + 1e-9, spacing) / t.centre_radius
         theta = np.unique(np.round(np.concatenate([regular, p.t]), 12))
         is_break = np.isin(np.round(theta, 12), np.round(p.t, 12))

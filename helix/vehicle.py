@@ -25,6 +25,15 @@ MAX_DIMENSION = 30.0
 
 @dataclass(frozen=True)
 class Vehicle:
+    """A design vehicle in metres: body, wheelbase, overhangs, optional track, ground
+    and overhang clearances and turning radius, each with its source in ``sources``.
+
+    >>> import helix
+    >>> v = helix.load_project(helix.demo_file("demo-metric")).vehicle
+    >>> v.name, v.length, round(v.front_overhang + v.wheelbase + v.rear_overhang, 2)
+    ('aashto-p', 5.8, 5.8)
+    """
+
     name: str
     title: str
     length: float

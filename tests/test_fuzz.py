@@ -29,6 +29,7 @@ import datetime
 import faulthandler
 import json
 import math
+import re
 import signal
 import sys
 from pathlib import Path
@@ -127,9 +128,9 @@ def judge(status: int, out: str, err: str, shown: str, top_keys=()) -> str | Non
         return None
     assert out == "", f"bad input, yet something was written to stdout: {out[:200]!r}"
     assert err.endswith("\n") and err.count("\n") == 1, f"expected exactly one line on stderr: {err!r}"
-    prefix = f"helix: error: {shown}: "
-    assert err.startswith(prefix), err
-    rest = err[len(prefix):-1]
+    m = re.match(rf"helix: error: {re.escape(shown)}(:\d+:\d+)?: ", err)  # file[:line:column]:
+    assert m, err
+    rest = err[m.end():-1]
     if rest.startswith(WHOLE_FILE):
         return ""
     reported, sep, message = rest.partition(": ")

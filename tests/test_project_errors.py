@@ -2,6 +2,8 @@
 the command line exits 2 with that line alone on stderr and writes nothing."""
 from pathlib import Path
 
+import re
+
 import pytest
 import yaml
 
@@ -121,8 +123,18 @@ def test_load_project_names_file_key_path_and_expectation(broken):
     assert "\n" not in line
     assert exc.file == str(path)
     assert exc.path == key_path
-    prefix = f"{path}: {key_path}: " if key_path else f"{path}: "
-    assert line.startswith(prefix), line
+    # file:line:column: where the YAML gives the key path's position, else file: (an
+    # editor or CI annotation jumps to the line).
+    m = re.match(rf"{re.escape(str(path))}(?::(\d+):(\d+))?: ", line)
+    assert m, line
+    assert line[m.end():].startswith(f"{key_path}: " if key_path else ""), line
+    if m.group(1):
+        row, col = int(m.group(1)), int(m.group(2))
+        text = path.read_bytes().decode("utf-8", "replace").splitlines()
+        assert 1 <= row <= len(text) + 1 and col >= 1, line
+        last = re.sub(r"\[\d+\]$", "", key_path.split(".")[-1]) if key_path else ""
+        if last and not key_path.endswith("]") and exc.message.startswith("unknown key"):
+            assert text[row - 1][col - 1:].startswith(last), (line, text[row - 1])
     for fragment in fragments:
         assert fragment in line, line
 
@@ -136,7 +148,7 @@ def test_cli_exits_2_with_one_line_and_writes_nothing(broken, tmp_path, capsys):
     assert captured.out == ""
     assert "Traceback" not in captured.err
     assert captured.err.count("\n") == 1 and captured.err.endswith("\n"), captured.err
-    assert captured.err.startswith(f"helix: error: {path}: ")
+    assert re.match(rf"helix: error: {re.escape(str(path))}(:\d+:\d+)?: ", captured.err), captured.err
     if key_path:
         assert f": {key_path}: " in captured.err
     for fragment in fragments:
