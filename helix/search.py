@@ -1308,8 +1308,16 @@ def design(project: Project) -> DesignResult:
     """Search every layout of the project's search space; rank and explain them.
 
     A project whose design section is fully fixed is searched over
-    :func:`default_space`.  See :class:`DesignResult` for an example; the search is
-    described in the module docstring and the README."""
+    :func:`default_space`.  The search is described in the module docstring and the
+    README; :class:`DesignResult` shows a whole run.
+
+    >>> import dataclasses, helix
+    >>> p = helix.load_project(helix.demo_file("demo-search"))
+    >>> one = dataclasses.replace(p, search=dataclasses.replace(p.search, layouts=("single-two-way",)))
+    >>> best = helix.design(one).options[0]
+    >>> best.feasible, round(best.evaluation.project.design.centre_radius, 2)
+    (True, 8.01)
+    """
     if project.search is None or project.search.fixed:
         project = replace(project, search=default_space(project))
     objective = _space(project).objective

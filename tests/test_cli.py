@@ -157,7 +157,7 @@ def test_python_m_helix_version():
                           capture_output=True, text=True, timeout=120)
     assert proc.returncode == 0
     assert proc.stdout.strip() == f"helix {helix.__version__}"
-    assert helix.__version__ == version("helix")
+    assert helix.__version__ == version(helix.DIST_NAME)  # one version source: helix/_version.py
 
 
 def test_no_arguments_prints_help(capsys):
