@@ -115,7 +115,11 @@ def transient_swept_band(vehicle: Vehicle, rear_axle_radius: float, ramp_length:
     outer front body corner and of the inner rear body side about the centre of the
     final circle, and that centre.
     """
-    from scipy.integrate import solve_ivp  # only here: importing scipy.integrate is slow
+    try:
+        from scipy.integrate import solve_ivp  # only here: scipy is optional, and slow to import
+    except ImportError:
+        raise ImportError("the transient bicycle model needs scipy, which helix does not install by "
+                          "itself: pip install scipy (or the 'test' extra)") from None
 
     wb = vehicle.wheelbase
     delta_ss = math.atan(wb / rear_axle_radius)

@@ -308,3 +308,21 @@ def test_schema_and_loader_agree_on_each_key_dropped_and_each_known_value():
             agree += schema_ok == loader_ok
             disagree += schema_ok != loader_ok
     assert agree > 10 and disagree <= 2, (agree, disagree)
+
+
+def test_without_scipy_the_bicycle_model_says_what_is_missing():
+    # scipy blocked as if not installed: the main job runs, the optional model explains.
+    code = """
+import sys
+sys.modules["scipy"] = None
+import helix
+from helix.turning import transient_swept_band
+ev = helix.evaluate(helix.load_project(helix.demo_file("demo-metric")))
+try:
+    transient_swept_band(ev.project.vehicle, 8.0)
+except ImportError as exc:
+    print(ev.ok, exc)
+"""
+    proc = _python(code)
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.startswith("True the transient bicycle model needs scipy"), proc.stdout

@@ -158,7 +158,8 @@ def test_a_helix_thousands_of_kilometres_long_is_refused_at_load(tmp_path, capsy
     path = project_file(tmp_path, levels=_levels(MAX_LEVELS),
                         design=dict(BASE["design"], turns_per_storey=20, centre_radius="999 m"))
     status, _, err = run(capsys, "check", path)
-    assert status == 2 and f"{path}: design: the helix would be 24,982 km long" in one_line(err)
+    assert status == 2 and re.search(rf"{re.escape(str(path))}:\d+:\d+: design: the helix would be 24,982 km long",
+                                     one_line(err)), err
     assert "expected at most 50 km" in err
 
 
