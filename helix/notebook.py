@@ -3,7 +3,8 @@
 ``repr()`` of a :class:`~helix.project.Project`, :class:`~helix.evaluate.Evaluation` or
 :class:`~helix.search.DesignResult` is one line (the dataclass default printed every
 field, 14,000 characters for an evaluation); in a notebook their ``_repr_html_`` shows a
-summary table, the verdict and, for results, the plan as inline SVG.  The plan is drawn
+summary table, the verdict and the plan as inline SVG (a project's fixed design is
+checked without rolling the vehicle; a search space is only summarised).  The plan is drawn
 with matplotlib's Agg canvas and closed at once: the notebook's backend and open figures
 are left as they were.
 """
@@ -91,9 +92,23 @@ def _project_rows(project: "Project") -> list[tuple[str, str]]:
 
 
 def project_html(project: "Project") -> str:
-    return (f"<div><strong>helix project</strong>{_table(_project_rows(project))}"
-            "<p><em>helix.evaluate(project)</em> gives the checks and the plan; "
-            "<em>helix.design(project)</em> searches.</p></div>")
+    """A fixed design is checked (without rolling the vehicle, the slow part) for its
+    verdict and plan; a search space is only summarised (``helix.design`` searches it)."""
+    rows = _table(_project_rows(project))
+    sp = project.search
+    if sp is not None and not sp.fixed:
+        return (f"<div><strong>helix project: a search space</strong>{rows}"
+                "<p><em>helix.design(project)</em> searches it.</p></div>")
+    from .errors import DesignError
+    from .evaluate import evaluate
+    try:
+        ev = evaluate(project, vehicle=False)
+    except DesignError as exc:
+        return (f"<div><strong>helix project: cannot be built</strong>{rows}"
+                f"<p>{html.escape(exc.path)}: {html.escape(str(exc))}</p></div>")
+    return (f"<div><strong>helix project: {html.escape(_verdict(ev))} (vehicle not rolled; "
+            f"helix.evaluate(project) for every check)</strong>{rows}{plan_svg(ev)}"
+            "<p><em>A design aid: local codes and licensed professionals govern.</em></p></div>")
 
 
 def plan_svg(ev: "Evaluation") -> str:

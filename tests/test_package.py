@@ -121,7 +121,10 @@ def test_reprs_are_short_and_html_has_table_verdict_and_plan(metric_eval):
     assert "<table>" in html and "all checks pass" in html
     assert html.count("<svg") == 1 and "<?xml" not in html
     assert "clear_height" in html
-    assert "<table>" in project._repr_html_()
+    page = project._repr_html_()
+    assert "<table>" in page and "all checks pass" in page and page.count("<svg") == 1
+    search = helix.load_project(helix.demo_file("demo-search"))
+    assert "search space" in search._repr_html_() and "<svg" not in search._repr_html_()
 
 
 def test_design_result_repr_and_html():
