@@ -149,6 +149,7 @@ def _load(name: str) -> Any:
         return load_project(name)
     from .library_files import read_bounded_stream
     raw = read_bounded_stream(sys.stdin.buffer, STDIN_NAME)
+    _STDIN[STDIN_NAME] = raw
     return load_project(STDIN_NAME, source=raw, base_dir=Path.cwd())
 
 
@@ -285,7 +286,24 @@ def _design_errors(project: Any, expected: str) -> Iterator[None]:
     try:
         yield
     except DesignError as exc:
-        raise InputError(project.file, exc.path, f"{exc}; expected {exc.expected or expected}") from None
+        error = InputError(project.file, exc.path, f"{exc}; expected {exc.expected or expected}")
+        raise error.located(_positions(project.file)) from None
+
+
+#: The bytes read from standard input, to locate errors found after loading.
+_STDIN: dict[str, bytes] = {}
+
+
+def _positions(file: str) -> dict[str, tuple[int, int]]:
+    """Line and column of every key path of the project file (read again: it loaded
+    once, so it parses; a file changed since then gives no positions)."""
+    from .library_files import read_yaml
+    positions: dict[str, tuple[int, int]] = {}
+    try:
+        read_yaml(Path(file), file, raw=_STDIN.get(file), positions=positions)
+    except InputError:
+        return {}
+    return positions
 
 
 def _library(name: str | None) -> int:
