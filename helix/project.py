@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .approach import Approach, parse_approach
+from .assumptions import ComparisonAssumptions
 from .errors import MAX_LENGTH, MAX_NAME, InputError, InvalidValue, Node, finite, require
 from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
@@ -189,6 +190,7 @@ class Project:
     rules: RuleSet
     design: DesignSpec
     search: SearchSpace | None = None
+    comparison: ComparisonAssumptions = ComparisonAssumptions()
 
     def __post_init__(self):
         require(isinstance(self.name, str) and 0 < len(self.name.strip()) <= MAX_NAME, self, "name", self.name,
@@ -220,7 +222,8 @@ class Project:
         return len(self.levels) - 1
 
 
-_TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design")
+_TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design",
+             "comparison")
 
 
 def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
@@ -509,9 +512,55 @@ def _rules(node: Node | None, project_dir: Path) -> RuleSet:
 #: Where a field of each dataclass is written in a project file, for the rare value
 #: the loader lets through and the dataclass refuses (see :func:`helix.errors.require`).
 _KEY_OF = {"Project": "", "Structure": "structure.", "Site": "site.", "Level": "levels", "Vehicle": "vehicle.",
-           "DesignSpec": "design.", "Limit": "rules", "GradientLimit": "rules.gradient"}
+           "DesignSpec": "design.", "Limit": "rules", "GradientLimit": "rules.gradient",
+           "ComparisonAssumptions": "comparison."}
 _DESIGN_KEYS = {"lane_widths": "lane_width", "transition_length": "transition.length",
                 "transition_kind": "transition.kind", "cross_fall_inward": "cross_fall_direction"}
+
+
+def _comparison(node: Node | None) -> ComparisonAssumptions:
+    """The optional ``comparison:`` section: what the comparison of options assumes
+    (headway in seconds, bays to empty, the standard bay and aisle, the parapet).  A key
+    left out keeps its sourced default (:mod:`helix.assumptions`)."""
+    base = ComparisonAssumptions()
+    if node is None:
+        return base
+    node.require_mapping()
+    values: dict = {}
+    headway = node.child("headway", required=False)
+    if headway is not None:
+        values["headway"] = headway.number(low=0.1, high=60.0, what="a headway in seconds from 0.1 to 60, such as 2.0")
+        values["headway_source"] = "project file"
+    bays = node.child("bays_to_empty", required=False)
+    if bays is not None:
+        n = bays.number(low=0, high=1_000_000, what="a whole number of bays from 0 to 1000000, such as 400")
+        if n != int(n):
+            raise bays.error(f"got {bays.data!r}; expected a whole number of bays from 0 to 1000000, such as 400")
+        values["bays_to_empty"] = int(n)
+        values["bays_source"] = "project file"
+    bay = node.child("bay", required=False)
+    if bay is not None:
+        bay.require_mapping()
+        for key in ("width", "length"):
+            child = bay.child(key, required=False)
+            if child is not None:
+                x = child.length(positive=True)
+                if not 0.5 <= x <= 30.0:
+                    raise child.error(f"got {child.data!r}; expected a bay {key} of 0.5 to 30 m, such as '2.4 m'")
+                values[f"bay_{key}"] = x
+                values["bay_source"] = "project file"
+        bay.done()
+    for key, source in (("aisle_width", "aisle_source"), ("parapet_height", "parapet_source")):
+        child = node.child(key, required=False)
+        if child is not None:
+            x = child.length(non_negative=True)
+            if x > 30.0:
+                raise child.error(f"got {child.data!r}; expected a length of 0 to 30 m, such as '6.0 m'")
+            values[key] = x
+            values[source] = "project file"
+    node.done()
+    from dataclasses import replace
+    return replace(base, **values)
 
 
 def load_project(path: str | Path) -> Project:
@@ -552,6 +601,7 @@ def _load_project(path: Path) -> Project:
     design, search = _design(root.child("design"), traffic, len(levels) - 1, rules, units)
     design = _pin_bearings(root.child("levels"), levels, design, check_turns=search.fixed or
                            (search.turns_choices is None and not search.turns_free))
+    comparison = _comparison(root.child("comparison", required=False))
     root.done()
     if structure.cover_soffit is not None and structure.cover_soffit <= levels[-1].level:
         raise InputError(shown, "structure.cover_soffit",
@@ -559,7 +609,7 @@ def _load_project(path: Path) -> Project:
                          f"({levels[-1].level:.3f} m)")
     project = Project(name=name, notes=notes, file=shown, units=units, levels=levels,
                       structure=structure, site=site, traffic=traffic, vehicle=vehicle,
-                      rules=rules, design=design, search=search)
+                      rules=rules, design=design, search=search, comparison=comparison)
     _check_extent(project)
     return project
 
