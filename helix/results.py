@@ -427,6 +427,10 @@ def _plus_minus(x: float, units: str) -> str:
     return ("±" if x > 0 else "∓") + format_length(abs(x), units, precision=2)
 
 
+#: Parameters of the sensitivity table, in a word.
+SHORT_PARAMETERS = {"storey_height": "storey", "slab_depth": "slab", "hanging_depth": "hanging",
+                    "gradient": "gradient"}
+
 #: Layout names short enough for the narrow comparison tables.
 SHORT_TITLES = {"single-one-way": "single one-way", "single-two-way": "single two-way", "double": "double",
                 "concentric": "concentric"}
@@ -482,7 +486,6 @@ def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str
     for traffic per lane, capacity of the helix, quantities, sensitivity and margins;
     in the project's units.  Shared by the terminal, the Markdown and the PDF."""
     from .comparison import compare_options
-    from .sensitivity import TITLES
     p = result.project
     u = p.units
     comps = compare_options(result)
@@ -510,16 +513,16 @@ def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str
                     format_length(q.kerb_length, u, precision=1), format_length(q.plot_side, u),
                     f"{q.bays_per_level} ({q.bays_all_levels})"])
         if s is not None:
-            first = True
-            for r in s.rows:
-                step = format_length(r.step, u, precision=1) if r.parameter != "gradient" else "1 %"
+            # The option's name, then what binds it, down the first column (narrow tables).
+            side = [name, "bound by", s.key or "-"] if s.key else [name]
+            for i, r in enumerate(s.rows):
+                step = "1 %" if r.parameter == "gradient" else (
+                    f"{r.step * 1000:.0f} mm" if u == "metric" else f"{format_length(r.step, u)} ({r.step * 1000:.0f} mm)")
                 switch = "; ".join(x for x in (f"+: {r.switch_plus}" if r.switch_plus else "",
                                               f"-: {r.switch_minus}" if r.switch_minus else "") if x)
-                sens.append([name if first else "", (s.binding.split(" (")[0] or "-") if first else "",
-                             f"{TITLES[r.parameter].split(' (')[0].replace('allowed ', '')} ±{step}",
+                sens.append([side[i] if i < len(side) else "", f"{SHORT_PARAMETERS[r.parameter]} ±{step}",
                              _plus_minus(r.d_radius, u), _plus_minus(r.d_diameter, u),
                              switch or ("fixed" if not s.movable else "")])
-                first = False
         for i, k in enumerate(c.tightest):
             marg.append([name if i == 0 else "", k.id, _margin_text(k, u), k.status])
     speed_text = format_speed(speed if speed is not None else 15 / 3.6, u)
@@ -544,9 +547,9 @@ def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str
          f"included); bays: standard bays that square would hold on one level (all levels), at "
          f"{format_length(b.bay_width, u)} x {format_length(b.bay_length, u)} plus half a "
          f"{format_length(b.aisle_width, u)} aisle per bay, rounded down ({b.bay_source}; {b.aisle_source})."),
-        ("Sensitivity of the chosen radius", ["option", "binding", "parameter step", "radius", "diameter",
-                                              "switch"], sens,
-         "radius, diameter: change of the centre-line radius and overall diameter per step up (down: the "
+        ("Sensitivity of the chosen radius", ["option", "step", "radius", "diameter", "switch"], sens,
+         "bound by: the constraint on whose boundary the radius lies (of a failing option: of its "
+         "least-failing design); radius, diameter: change of the centre-line radius and overall diameter per step up (down: the "
          "opposite), from the exact boundary of the binding constraint by implicit differentiation "
          "(dr/dp = -(dm/dp)/(dm/dr) of its margin m), not by searching again; 0: the binding constraint does not "
          "depend on that parameter. storey height: every storey; allowed gradient: every limit of the rule set "
