@@ -31,14 +31,14 @@ import numpy as np
 
 from .alignment import Profile
 from .assumptions import ComparisonAssumptions
-from .geometry import TWO_PI, Helix
+from .geometry import TWO_PI, Helix, Thread
 
 __all__ = ["strip_area", "deck_area", "Quantities", "quantities"]
 
 _GL_X, _GL_W = np.polynomial.legendre.leggauss(32)
 
 
-def _f(x: np.ndarray, s: np.ndarray) -> np.ndarray:
+def _f(x: float | np.ndarray, s: float | np.ndarray) -> np.ndarray:
     """``integral from 0 to x of sqrt(t^2 + s^2) dt``, elementwise (``s`` may be 0)."""
     x = np.asarray(x, float)
     s = np.abs(np.asarray(s, float))
@@ -47,7 +47,7 @@ def _f(x: np.ndarray, s: np.ndarray) -> np.ndarray:
     return 0.5 * (x * np.hypot(x, s) + tail)
 
 
-def strip_area(r1: float, r2: float, slope, cross_fall: float = 0.0) -> np.ndarray:
+def strip_area(r1: float, r2: float, slope: float | np.ndarray, cross_fall: float = 0.0) -> np.ndarray:
     """Sloped area per radian of plan angle of the strip ``r1 <= r <= r2`` where the
     alignment rises ``slope`` metres per radian (``Z'``), with cross-fall ``e``.
 
@@ -100,8 +100,8 @@ class Quantities:
         return self.bays_per_level * self.levels
 
 
-def _kerb_lines(helix: Helix, central: bool) -> list[tuple[str, float, object]]:
-    lines = []
+def _kerb_lines(helix: Helix, central: bool) -> list[tuple[str, float, Thread]]:
+    lines: list[tuple[str, float, Thread]] = []
     for t in helix.threads:
         lines.append((f"{t.name} inner kerb", t.inner_radius, t))
         if central and len(t.lanes) > 1 and t.lanes[1].inner_radius - t.lanes[0].outer_radius > 1e-9:

@@ -490,7 +490,11 @@ def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str
     u = p.units
     comps = compare_options(result)
     basis = p.comparison
-    lanes, cap, qty, sens, marg = [], [], [], [], []
+    lanes: list[list[str]] = []
+    cap: list[list[str]] = []
+    qty: list[list[str]] = []
+    sens: list[list[str]] = []
+    marg: list[list[str]] = []
     speed = None
     for rank, (o, c) in enumerate(zip(result.options, comps), 1):
         name = f"{rank} {SHORT_TITLES[o.layout]}"

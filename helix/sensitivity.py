@@ -102,15 +102,15 @@ def binding_key(label: str) -> str:
 _FIXED = ("search range", "geometry", "least-failing", "infeasible")
 
 
-def binding_margin(project: Project, family, label: str) -> Callable[[float], float] | None:
-    """The margin ``m(r)`` of the constraint ``label`` names, for ``project``; ``None``
-    where the radius is fixed (the search range, the geometry) or the label is unknown."""
+def binding_margin(project: Project, family, label: str, near: float) -> Callable[[float], float] | None:
+    """The margin ``m(r)`` of the constraint ``label`` names, for ``project``, about the
+    radius ``near``; ``None`` where the radius is fixed (the search range, the geometry)."""
     from . import search as S
     if not label or label.startswith(_FIXED):
         return None
     key = binding_key(label)
     if label.startswith("lane_width_swept (") or label.startswith("lane_width_swept("):
-        return _kink_margin(project, family, label)
+        return _kink_margin(project, family, label, near)
     if label.startswith("transitions needed") or label.startswith("landings and transitions"):
         return _switch_margin(project, family, label)
     if key in S.FULL_CHECK_ONLY:
@@ -123,32 +123,14 @@ def binding_margin(project: Project, family, label: str) -> Callable[[float], fl
     return m
 
 
-def _kink_margin(project: Project, family, label: str) -> Callable[[float], float]:
-    """Where an auto lane width leaves the rule minimum for the swept path (or the
-    vehicle reaches its tightest circle): the terms of :func:`helix.search._kinks`."""
+def _kink_margin(project: Project, family, label: str, near: float) -> Callable[[float], float]:
+    """``r - r_k`` for the radius ``r_k`` nearest ``near`` where an auto lane width changes
+    regime as ``label`` says (its root, by :func:`helix.search._kinks`)."""
     from . import search as S
-    from .turning import min_rear_axle_radius
-    inside = label[label.index("(") + 1:]
-    name = inside.split(" at the rule")[0].split(":")[0].strip()
-    j = 1 if name == "outer lane" else 0
-    tight = "tightest circle" in label
-    rules, v = project.rules, project.vehicle
-    c_in, c_out = rules.kerb_clearances()
-    if family.lanes == 2 and rules.lane_width_two_way is not None:
-        rule_min = 0.5 * rules.lane_width_two_way.value
-    else:
-        rule_min = rules.lane_width_one_way.value if rules.lane_width_one_way is not None else 0.0
-    central = S._central_kerb(project, family)
 
     def m(r: float) -> float:
-        rr = np.array([r])
-        w = S._lane_widths(project, family, rr)
-        edge = rr - 0.5 * (w.sum(axis=1) + (central if family.lanes == 2 else 0.0))
-        for i in range(j):
-            edge = edge + w[:, i] + central
-        if tight:
-            return float((edge + c_in + 0.5 * v.width - min_rear_axle_radius(v))[0])
-        return float((S._swept_need(v, edge, c_in, c_out) - rule_min)[0])
+        ks = [k for k, lab in S._kinks(project, family, near - 0.5, near + 0.5) if lab == label]
+        return r - min(ks, key=lambda k: abs(k - near)) if ks else math.nan
     return m
 
 
@@ -209,22 +191,22 @@ def sensitivity(project: Project, family, radius: float, label: str) -> Sensitiv
     ``family`` at ``radius`` whose radius is bound by ``label``."""
     if label.startswith(("least-failing", "infeasible")) or not label:
         label = active_binding(project, family, radius) or label
-    m0 = binding_margin(project, family, label)
+    m0 = binding_margin(project, family, label, radius)
     key = binding_key(label)
     if m0 is None:
         note = (f"the radius is fixed by {label or 'nothing named'}; no parameter here moves it"
                 if label else "no binding constraint named")
-        rows = tuple(ParameterSensitivity(p, STEPS[p], 0.0, 0.0, "", "") for p in PARAMETERS)
-        return Sensitivity(label, key, False, note, math.nan, rows)
+        fixed = tuple(ParameterSensitivity(p, STEPS[p], 0.0, 0.0, "", "") for p in PARAMETERS)
+        return Sensitivity(label, key, False, note, math.nan, fixed)
     dm_dr = (m0(radius + _H_R) - m0(radius - _H_R)) / (2 * _H_R)
     d_diam = (_diameter(project, family, radius + _H_R) - _diameter(project, family, radius - _H_R)) / (2 * _H_R)
-    rows = []
+    rows: list[ParameterSensitivity] = []
     note = ""
     already = _failing(project, family, radius)
     for p in PARAMETERS:
         h = _H_P[p]
-        mp = binding_margin(perturbed(project, p, h), family, label)
-        mm = binding_margin(perturbed(project, p, -h), family, label)
+        mp = binding_margin(perturbed(project, p, h), family, label, radius)
+        mm = binding_margin(perturbed(project, p, -h), family, label, radius)
         assert mp is not None and mm is not None
         dm_dp = (mp(radius) - mm(radius)) / (2 * h)
         if not (math.isfinite(dm_dr) and abs(dm_dr) > 1e-12 and math.isfinite(dm_dp)):

@@ -182,6 +182,23 @@ def test_sensitivity_zero_where_the_binding_rule_ignores_the_parameter():
     assert moved.radius == pytest.approx(base.radius, abs=2e-6)
 
 
+def test_sensitivity_of_a_lane_width_regime_change_against_the_exact_search():
+    # The search demo's two-way helix sits where the inner lane leaves its rule width
+    # for the swept path: a function of the vehicle and the rules only, so the radius
+    # does not move with the storey height; the search run again agrees to its tolerance.
+    p = load_project(ROOT / "configs" / "demo-search.yaml")
+    p = replace(p, search=replace(p.search, layouts=("single-two-way",)))
+    base = search_layout(p, "single-two-way")
+    assert base.binding.startswith("lane_width_swept (")
+    s = sensitivity(p, base.family, base.radius, base.binding)
+    assert s.movable and s.dm_dr == pytest.approx(1.0)
+    for par in ("storey_height", "gradient"):
+        row = next(r for r in s.rows if r.parameter == par)
+        moved = search_layout(perturbed(p, par, 0.5 * row.step), "single-two-way")
+        assert row.d_radius == 0.0
+        assert moved.radius == pytest.approx(base.radius, abs=2e-6)
+
+
 def test_sensitivity_of_a_full_check_boundary_against_the_verified_search():
     # The imperial demo's two-way helix is bound by the floor approach's clear height,
     # which only the full check measures: the search moves the radius to that root.
