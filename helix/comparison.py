@@ -10,7 +10,8 @@ from dataclasses import dataclass
 from .assumptions import ComparisonAssumptions
 from .capacity import HelixTraffic, helix_traffic
 from .quantities import Quantities, quantities
-from .sensitivity import Sensitivity, sensitivity
+from .intervals import RegionError
+from .sensitivity import PARAMETERS, STEPS, ParameterSensitivity, Sensitivity, sensitivity
 
 __all__ = ["OptionComparison", "compare_option", "compare_options", "design_speed", "DEFAULT_SPEED"]
 
@@ -58,7 +59,14 @@ def compare_option(project, option) -> OptionComparison | None:
                    p.structure.wall_thickness, basis)
     sens = None
     if option.family is not None:
-        sens = sensitivity(project, option.family, ev.helix.threads[0].centre_radius, option.binding)
+        try:
+            sens = sensitivity(project, option.family, ev.helix.threads[0].centre_radius, option.binding)
+        except (ValueError, RegionError, ArithmeticError) as exc:
+            # A changed project that cannot be built (DesignError and InvalidValue are
+            # ValueErrors): say so in the table instead of losing the whole comparison.
+            sens = Sensitivity(option.binding, "", False, f"not computed: {type(exc).__name__}: {exc}", math.nan,
+                               tuple(ParameterSensitivity(p, STEPS[p], math.nan, math.nan, "", "")
+                                     for p in PARAMETERS))
     return OptionComparison(option.layout, basis, traffic, q, sens, _tightest(ev))
 
 

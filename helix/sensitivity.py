@@ -206,9 +206,13 @@ def sensitivity(project: Project, family, radius: float, label: str) -> Sensitiv
     for p in PARAMETERS:
         h = _H_P[p]
         mp = binding_margin(perturbed(project, p, h), family, label, radius)
-        mm = binding_margin(perturbed(project, p, -h), family, label, radius)
-        assert mp is not None and mm is not None
-        dm_dp = (mp(radius) - mm(radius)) / (2 * h)
+        assert mp is not None
+        try:
+            mm = binding_margin(perturbed(project, p, -h), family, label, radius)
+            assert mm is not None
+            dm_dp = (mp(radius) - mm(radius)) / (2 * h)
+        except ValueError:  # a depth of zero cannot be thinner: the derivative from above
+            dm_dp = (mp(radius) - m0(radius)) / h
         if not (math.isfinite(dm_dr) and abs(dm_dr) > 1e-12 and math.isfinite(dm_dp)):
             note = "the binding margin does not change with the radius here; derivatives not defined"
             rows.append(ParameterSensitivity(p, STEPS[p], math.nan, math.nan, "", ""))
