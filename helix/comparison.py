@@ -41,7 +41,8 @@ def _tightest(ev, n: int = 3) -> tuple:
         m = c.margin
         if m is None or c.limit is None or c.advisory or not math.isfinite(m):
             continue
-        rated.append((m / max(abs(c.limit), 1e-9), c.id, c))
+        # Relative to the limit (to the value where the limit is zero, as a clearance of 0).
+        rated.append((m / max(abs(c.limit), abs(c.value or 0.0), 1e-9), c.id, c))
     rated.sort(key=lambda x: (x[0], x[1]))
     return tuple(c for _, _, c in rated[:n])
 
