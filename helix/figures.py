@@ -779,6 +779,8 @@ def options_figure(result):
     kerbs, lane centre lines, structure, core and the plot square it takes, inside the
     site, with its key figures (radius, diameter, grades, capacity, drive time, deck,
     bays taken, status) below."""
+    import textwrap
+
     from .comparison import compare_options
     from .results import SHORT_TITLES, format_area, format_duration
     from .search import LAYOUT_TITLES
@@ -841,8 +843,9 @@ def options_figure(result):
                          color="black" if ok else PALETTE["thread2"])
             t = c.traffic
             down = t.down_time()
+            status = "PASS" if ok else "FAIL: " + ", ".join(x.id for x in ev.checks if not x.ok)
             lines = [
-                f"{'PASS' if ok else 'FAIL'}" + ("" if ok else f" ({', '.join(x.id for x in ev.checks if not x.ok)})"),
+                "\n".join(textwrap.wrap(status, max(int(w * 120), 16))),
                 f"centre radius {format_length(h.threads[0].centre_radius, u)}",
                 f"diameter {format_length(h.overall_diameter, u)}",
                 f"grade inner / centre {100 * ev.max_gradient('inner kerb'):.1f} / "
