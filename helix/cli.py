@@ -260,7 +260,7 @@ def _design(args: argparse.Namespace) -> int:
     text = to_json(design_dict(result))
     if args.output:
         _use_agg()
-        from .figures import figure_bytes, pareto_figure
+        from .figures import figure_bytes, options_figure, pareto_figure
         files: dict[str, bytes] = {}
         if result.best is not None:
             best = result.options[result.best]
@@ -269,6 +269,7 @@ def _design(args: argparse.Namespace) -> int:
             files.update(_check_outputs(best.evaluation, best.evaluation.project, args.stations, comparisons,
                                         option=best, search=result))
         files.update(figure_bytes("pareto", pareto_figure(result)))
+        files.update(figure_bytes("options", options_figure(result)))
         files["design.json"] = text.encode()
         write_outputs(Path(args.output), files)
     if args.json:

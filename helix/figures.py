@@ -772,3 +772,99 @@ def pareto_figure(result):
         ax.grid(True, lw=0.3, color="#DDDDDD")
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0)
     return fig
+
+
+def options_figure(result):
+    """The options of a design search side by side in plan at one scale: each helix's
+    kerbs, lane centre lines, structure, core and the plot square it takes, inside the
+    site, with its key figures (radius, diameter, grades, capacity, drive time, deck,
+    bays taken, status) below."""
+    import textwrap
+
+    from .comparison import compare_options
+    from .results import SHORT_TITLES, format_area, format_duration
+    from .search import LAYOUT_TITLES
+    p = result.project
+    u = p.units
+    s = _Scale(u)
+    shown = [(i, o, c) for i, (o, c) in enumerate(zip(result.options, compare_options(result)), 1)
+             if o.evaluation is not None and c is not None]
+    with plt.rc_context(STYLE):
+        fig = plt.figure(figsize=A4_LANDSCAPE)
+        fig.suptitle(f"{p.name}: the options in plan at one scale", x=0.02, ha="left", fontsize=12,
+                     fontweight="bold")
+        fig.text(0.02, 0.935, f"objective {p.search.objective}; every option drawn to the same scale inside the "
+                 "site (solid) and its usable footprint (dashed); design aid only: verify against the codes in force",
+                 fontsize=8, color="#444444")
+        if not shown:
+            fig.text(0.5, 0.5, "No layout has a design to draw.", ha="center", fontsize=11)
+            return fig
+        half = 0.5 * max([p.site.width, p.site.depth] + [o.evaluation.helix.overall_diameter for _, o, _ in shown])
+        half *= 1.04
+        n = len(shown)
+        gap = 0.02
+        w = min((0.96 - gap * (n - 1)) / n, 0.5)
+        x0 = 0.5 - 0.5 * (n * w + gap * (n - 1))
+        ax_h = min(w * A4_LANDSCAPE[0] / A4_LANDSCAPE[1], 0.5)
+        for k, (rank, o, c) in enumerate(shown):
+            ev = o.evaluation
+            h = ev.helix
+            cx, cy = h.centre
+            ax = fig.add_axes((x0 + k * (w + gap), 0.89 - ax_h, w, ax_h))
+            ax.set_aspect("equal")
+            ax.set_xlim(float(s(cx - half)), float(s(cx + half)))
+            ax.set_ylim(float(s(cy - half)), float(s(cy + half)))
+            ax.set_xticks([])
+            ax.set_yticks([])
+            ax.add_patch(Rectangle((0, 0), float(s(p.site.width)), float(s(p.site.depth)), fill=False,
+                                   ec=PALETTE["footprint"], lw=1.2))
+            m = p.site.margin
+            ax.add_patch(Rectangle((float(s(m)), float(s(m))), float(s(p.site.width - 2 * m)),
+                                   float(s(p.site.depth - 2 * m)), fill=False, ec=PALETTE["footprint"], lw=0.8,
+                                   ls="--"))
+            side = c.quantities.plot_side
+            ax.add_patch(Rectangle((float(s(cx - 0.5 * side)), float(s(cy - 0.5 * side))), float(s(side)),
+                                   float(s(side)), fill=False, ec=PALETTE["structure"], lw=0.7, ls=":"))
+            ax.add_patch(Circle((float(s(cx)), float(s(cy))), float(s(h.structure_radius)), fill=False,
+                                ec=PALETTE["structure"], lw=2.0))
+            if h.core_radius > 0:
+                ax.add_patch(Circle((float(s(cx)), float(s(cy))), float(s(h.core_radius)), fc="#EEEEEE",
+                                    ec=PALETTE["structure"], lw=1.0))
+            for j, t in enumerate(h.threads):
+                colour = THREAD_COLOURS[j % 4]
+                ax.add_patch(Wedge((float(s(cx)), float(s(cy))), float(s(t.outer_radius)), 0, 360,
+                                   width=float(s(t.width)), fc=PALETTE["fill"], ec=colour, lw=1.0, alpha=0.9))
+                for ln in t.lanes:
+                    ax.add_patch(Circle((float(s(cx)), float(s(cy))), float(s(ln.centre_radius)), fill=False,
+                                        ec=colour, lw=0.8, ls=(0, (4, 3))))
+            ok = o.feasible and ev.ok
+            best = " (best)" if result.best is not None and rank == result.best + 1 else ""
+            ax.set_title(f"{rank}. {LAYOUT_TITLES[o.layout]}{best}", fontsize=10, fontweight="bold",
+                         color="black" if ok else PALETTE["thread2"])
+            t = c.traffic
+            down = t.down_time()
+            status = "PASS" if ok else "FAIL: " + ", ".join(x.id for x in ev.checks if not x.ok)
+            lines = [
+                "\n".join(textwrap.wrap(status, max(int(w * 120), 16))),
+                f"centre radius {format_length(h.threads[0].centre_radius, u)}",
+                f"diameter {format_length(h.overall_diameter, u)}",
+                f"grade inner / centre {100 * ev.max_gradient('inner kerb'):.1f} / "
+                f"{100 * ev.max_gradient('centre line'):.1f} %",
+                f"in / out {t.inbound:,.0f} / {t.outbound:,.0f} veh/h",
+                f"down {format_duration(down)}" if down is not None else "no way down",
+                f"empty {t.bays} bays {format_duration(t.empty_time)}" if t.empty_time is not None else "",
+                f"deck {format_area(c.quantities.deck_area, u)}",
+                f"takes {c.quantities.bays_per_level} bays a level",
+            ]
+            fig.text(x0 + k * (w + gap) + 0.005, 0.86 - ax_h, "\n".join(x for x in lines if x), fontsize=9,
+                     va="top", linespacing=1.4)
+        # One scale bar for all: the axes share one scale.
+        bar_ax = fig.axes[0]
+        _scale_bar(bar_ax, s, float(s(h.centre[0] - half)) + 0.04 * float(s(2 * half)),
+                   float(s(h.centre[1] - half)) + 0.04 * float(s(2 * half)), float(s(2 * half)))
+        fig.text(0.02, 0.03, "Kerbs and running surface shaded per thread (blue, vermillion); dashed: lane centre "
+                 "lines; thick grey: outside face of the structure; dotted: the plot square it takes (used for the "
+                 "bays figure); grey disc: the core. " + ", ".join(f"{r}: {SHORT_TITLES[o.layout]}"
+                                                                  for r, o, _ in shown) + ".",
+                 fontsize=7.5, color="#444444", wrap=True)
+    return fig

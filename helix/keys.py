@@ -129,6 +129,8 @@ def sections() -> dict[str, Section]:
                 "{use: ..., override: {...}}.", default="conservative-default"),
             Key("design", ref("design"), "The helix, fixed or as search ranges ('helix design').",
                 required=True),
+            Key("comparison", ref("comparison"), "What the comparison of options assumes: headway, "
+                "bays to empty, the standard bay and aisle, the parapet.", default="sourced defaults"),
         )),
         "project": Section("Name and notes of the project.", (
             Key("name", text(MAX_NAME), "Shown on every figure and in the report.", required=True),
@@ -214,6 +216,19 @@ def sections() -> dict[str, Section]:
             Key("line", list_of(list_of(LENGTH, 2, 2), 2), "Plan points [x, y] in site coordinates."),
             Key("grade", GRADIENT, "Grade rising away from the helix.", default="0%"),
             Key("angle", ANGLE, "Outward from the tangent: 0 deg to 90 deg.", default="0 deg"),
+        )),
+        "comparison": Section("What the comparison of options assumes beyond the design itself.", (
+            Key("headway", NUMBER, "Seconds between vehicles in one lane's steady queue (0.1 to 60).",
+                default="1.8947 (1,900 vehicles an hour a lane)"),
+            Key("bays_to_empty", NUMBER, "Bays to empty through the helix (a whole number).", default="500"),
+            Key("bay", ref("bay"), "The standard parking bay.", default="2.4 m x 4.8 m"),
+            Key("aisle_width", LENGTH, "Aisle shared by the bays on its two sides.", default="6.0 m"),
+            Key("parapet_height", LENGTH, "Edge barrier above the top deck (for wall areas).",
+                default="1.1 m"),
+        )),
+        "bay": Section("A standard parking bay.", (
+            Key("width", LENGTH, "Bay width.", default="2.4 m"),
+            Key("length", LENGTH, "Bay length.", default="4.8 m"),
         )),
         "rules": Section("A rule set with changes of its values.", (
             Key("use", text(MAX_TEXT), "The rule set: a bundled name or a path.", required=True),

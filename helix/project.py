@@ -12,10 +12,12 @@ raises :class:`~helix.errors.InputError` naming the file and the key path.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 from .approach import Approach, parse_approach
+from . import units
+from .assumptions import ComparisonAssumptions
 from .errors import MAX_LENGTH, MAX_NAME, InputError, InvalidValue, Node, finite, require
 from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
@@ -207,6 +209,7 @@ class Project:
     rules: RuleSet
     design: DesignSpec
     search: SearchSpace | None = None
+    comparison: ComparisonAssumptions = ComparisonAssumptions()
 
     def __post_init__(self):
         require(isinstance(self.name, str) and 0 < len(self.name.strip()) <= MAX_NAME, self, "name", self.name,
@@ -246,7 +249,8 @@ class Project:
         return len(self.levels) - 1
 
 
-_TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design")
+_TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design",
+             "comparison")
 
 
 def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
@@ -535,9 +539,59 @@ def _rules(node: Node | None, project_dir: Path) -> RuleSet:
 #: Where a field of each dataclass is written in a project file, for the rare value
 #: the loader lets through and the dataclass refuses (see :func:`helix.errors.require`).
 _KEY_OF = {"Project": "", "Structure": "structure.", "Site": "site.", "Level": "levels", "Vehicle": "vehicle.",
-           "DesignSpec": "design.", "Limit": "rules", "GradientLimit": "rules.gradient"}
+           "DesignSpec": "design.", "Limit": "rules", "GradientLimit": "rules.gradient",
+           "ComparisonAssumptions": "comparison."}
 _DESIGN_KEYS = {"lane_widths": "lane_width", "transition_length": "transition.length",
                 "transition_kind": "transition.kind", "cross_fall_inward": "cross_fall_direction"}
+
+
+def _comparison(node: Node | None) -> ComparisonAssumptions:
+    """The optional ``comparison:`` section: what the comparison of options assumes
+    (headway in seconds, bays to empty, the standard bay and aisle, the parapet).  A key
+    left out keeps its sourced default (:mod:`helix.assumptions`)."""
+    base = ComparisonAssumptions()
+    if node is None:
+        return base
+    node.require_mapping()
+    values: dict[str, float | int | str] = {}
+
+    def length(child: Node | None, key: str, low: float, what: str) -> None:
+        if child is None:
+            return
+        x = child.length(non_negative=True)
+        if not low <= x <= 30.0:
+            raise child.error(f"got {units.short_repr(child.data, 60)}; expected {what}")
+        values[key] = x
+
+    headway = node.child("headway", required=False)
+    if headway is not None:
+        values["headway"] = headway.number(low=0.1, high=60.0, what="a headway in seconds from 0.1 to 60, such as 2.0")
+        values["headway_source"] = "project file"
+    bays = node.child("bays_to_empty", required=False)
+    if bays is not None:
+        what = "a whole number of bays from 0 to 1000000, such as 400"
+        n = bays.number(low=0, high=1_000_000, what=what)
+        if n != int(n):
+            raise bays.error(f"got {units.short_repr(bays.data, 60)}; expected {what}")
+        values["bays_to_empty"] = int(n)
+        values["bays_source"] = "project file"
+    bay = node.child("bay", required=False)
+    if bay is not None:
+        bay.require_mapping()
+        length(bay.child("width", required=False), "bay_width", 0.5, "a bay width of 0.5 to 30 m, such as '2.4 m'")
+        length(bay.child("length", required=False), "bay_length", 0.5, "a bay length of 0.5 to 30 m, such as '4.8 m'")
+        bay.done(section="bay")
+        if "bay_width" in values or "bay_length" in values:
+            values["bay_source"] = "project file"
+    length(node.child("aisle_width", required=False), "aisle_width", 0.0, "a length of 0 to 30 m, such as '6.0 m'")
+    length(node.child("parapet_height", required=False), "parapet_height", 0.0,
+           "a length of 0 to 30 m, such as '1.1 m'")
+    if "aisle_width" in values:
+        values["aisle_source"] = "project file"
+    if "parapet_height" in values:
+        values["parapet_source"] = "project file"
+    node.done(section="comparison")
+    return replace(base, **values)  # type: ignore[arg-type]
 
 
 def load_project(path: str | Path, *, source: bytes | None = None, base_dir: str | Path | None = None) -> Project:
@@ -602,6 +656,7 @@ def _load_project(path: Path, source: bytes | None = None, base_dir: Path | None
     design, search = _design(root.child("design"), traffic, len(levels) - 1, rules, units)
     design = _pin_bearings(root.child("levels"), levels, design, check_turns=search.fixed or
                            (search.turns_choices is None and not search.turns_free))
+    comparison = _comparison(root.child("comparison", required=False))
     root.done(section="top")
     if structure.cover_soffit is not None and structure.cover_soffit <= levels[-1].level:
         raise InputError(shown, "structure.cover_soffit",
@@ -609,7 +664,7 @@ def _load_project(path: Path, source: bytes | None = None, base_dir: Path | None
                          f"({levels[-1].level:.3f} m)")
     project = Project(name=name, notes=notes, file=shown, units=units, levels=levels,
                       structure=structure, site=site, traffic=traffic, vehicle=vehicle,
-                      rules=rules, design=design, search=search)
+                      rules=rules, design=design, search=search, comparison=comparison)
     _check_extent(project)
     return project
 

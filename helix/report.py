@@ -17,7 +17,7 @@ from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
 
 from .evaluate import Evaluation  # noqa: E402
 from .figures import A4_LANDSCAPE, FIGURES, PALETTE, STYLE  # noqa: E402
-from .results import CAUTION, drive_time, format_shortfall, searched_text, turns_text  # noqa: E402
+from .results import CAUTION, comparison_blocks, drive_time, format_shortfall, searched_text, turns_text  # noqa: E402
 from .setting_out import stations  # noqa: E402
 from .units import format_gradient, format_length, format_level  # noqa: E402
 
@@ -136,6 +136,7 @@ def _comparison(result) -> list[tuple[str, object]]:
               + "; ".join(f"{LAYOUT_TITLES[o.layout]}: {searched_text(o)}" for o in result.options) + "."),
         ("table", (["#", "layout", "turns", "centre radius", "diameter", "grade inner", "headroom", "status",
                     "binding"], rows, [0.03, 0.19, 0.09, 0.1, 0.09, 0.11, 0.08, 0.06, 0.25]))]
+    blocks += comparison_blocks(result)  # traffic, quantities, sensitivity, margins (helix.comparison)
     for o in result.options:
         if not o.feasible:
             items = [[e["constraint"], format_shortfall(e, u),
@@ -209,6 +210,7 @@ def _document(ev, option, result, comparisons, spacing):
         doc.append(("figure", (name, caption)))
     if result is not None:
         doc.append(("figure", ("pareto", "Design search: footprint against steepest gradient")))
+        doc.append(("figure", ("options", "The options side by side in plan at one scale")))
     doc += _setting_out(ev, spacing)
     return doc
 
@@ -404,6 +406,8 @@ def report_files(ev: Evaluation, *, option=None, result=None, comparisons: list[
             made[name] = make(ev)
     if result is not None and "pareto" not in given:
         made["pareto"] = F.pareto_figure(result)
+    if result is not None and "options" not in given:
+        made["options"] = F.options_figure(result)
     try:
         title = f"{ev.project.name}: helix design report"
         return {"report.pdf": _pdf(doc, {**given, **made}, title), "report.md": _markdown(doc).encode("utf-8")}

@@ -219,7 +219,9 @@ def check_table(ev: Evaluation) -> str:
 # ----------------------------------------------------------------------------------
 # The design search
 
-def option_dict(option) -> dict[str, Any]:
+def option_dict(option, comparison=None) -> dict[str, Any]:
+    """One option of a search; ``comparison`` (:class:`helix.comparison.OptionComparison`)
+    adds its traffic, quantities, sensitivity and tightest checks."""
     from .search import LAYOUT_TITLES
     data: dict[str, Any] = to_dict(option.evaluation) if option.evaluation is not None else {"ok": False}
     d = option.evaluation.helix.overall_diameter if option.evaluation is not None else None
@@ -236,6 +238,7 @@ def option_dict(option) -> dict[str, Any]:
         "notes": list(option.notes),
         "explanation": list(option.explanation),
         "drive_time_top_to_bottom_s": _r(drive_time(option.evaluation), 1) if option.evaluation else None,
+        "comparison": comparison_dict(comparison),
     })
     data["ok"] = bool(option.feasible and data.get("ok", False))
     return data
@@ -298,10 +301,11 @@ def drive_time(ev: Evaluation) -> float:
 
 
 def design_dict(result) -> dict[str, Any]:
+    from .comparison import compare_options
     return {
         "project": result.project.name,
         "objective": result.project.search.objective,
-        "options": [option_dict(o) for o in result.options],
+        "options": [option_dict(o, c) for o, c in zip(result.options, compare_options(result))],
         "best": result.best,
         "pareto": [{k: (_r(v) if isinstance(v, float) else v) for k, v in p.items()} for p in result.pareto],
         "caution": CAUTION,
@@ -321,38 +325,50 @@ def design_table(result) -> str:
         out.append(f"  {LAYOUT_TITLES[o.layout]}: {searched_text(o)}")
         out += [f"    note: {n}" for n in o.notes]
     out.append("")
-    rows = []
+    geo, grades, binding = [], [], []
     for rank, o in enumerate(result.options, 1):
         ev = o.evaluation
+        name = LAYOUT_TITLES[o.layout]
         if ev is None:
-            rows.append([str(rank), LAYOUT_TITLES[o.layout], "-", "-", "-", "-", "-", "-", "-", "-", "-", "-", "-",
-                         "FAIL", "no radius fits"])
+            geo.append([str(rank), name, "-", "-", "-", "-", "-", "-", "FAIL"])
+            grades.append([str(rank), name, "-", "-", "-", "-", "-"])
+            binding.append([str(rank), name, "no radius fits"])
             continue
         h = ev.helix
         first = [s for s in ev.storeys if s.thread == h.threads[0].name]
         head = ev.headroom.clear if ev.headroom else None
         fails = [c.id for c in ev.checks if not c.ok]
-        rows.append([
-            str(rank), LAYOUT_TITLES[o.layout], str(len(h.threads)), turns_text(s.turns for s in first),
-            format_length(h.threads[0].centre_radius, u),
-            format_length(min(ln.width for t in h.threads for ln in t.lanes), u),
-            format_length(h.overall_diameter, u),
-            format_gradient(ev.max_gradient("inner kerb"), u), format_gradient(ev.max_gradient("centre line"), u),
-            format_gradient(ev.max_gradient("outer kerb"), u),
-            format_length(head, u) if head is not None else "-",
-            format_length(sum(s.length_centre for s in first) / len(first), u),
-            f"{drive_time(ev):.0f} s",
-            "pass" if o.feasible and ev.ok else "FAIL",
-            o.binding if o.feasible else ("fails " + ", ".join(fails) if fails else "infeasible"),
-        ])
-    out.append(_table(rows, ["#", "layout", "threads", "turns", "centre radius", "lane", "diameter",
-                             "grade inner", "grade centre", "grade outer", "headroom", "drive/storey",
-                             "top-bottom", "status", "binding constraint"]))
-    speed = p.rules.design_speed.value if p.rules.design_speed else 15 / 3.6
-    out.append(f"turns: per storey from the bottom; drive/storey: 3-D length of a storey on the first "
-               f"thread's carriageway centre line; top-bottom: that line driven from the top level to the "
-               f"bottom at {format_speed(speed, u)}")
+        geo.append([str(rank), name, str(len(h.threads)), turns_text(s.turns for s in first),
+                    format_length(h.threads[0].centre_radius, u),
+                    format_length(min(ln.width for t in h.threads for ln in t.lanes), u),
+                    format_length(h.overall_diameter, u), format_length(head, u) if head is not None else "-",
+                    "pass" if o.feasible and ev.ok else "FAIL"])
+        grades.append([str(rank), name, format_gradient(ev.max_gradient("inner kerb"), u),
+                       format_gradient(ev.max_gradient("centre line"), u),
+                       format_gradient(ev.max_gradient("outer kerb"), u),
+                       format_length(sum(s.length_centre for s in first) / len(first), u), f"{drive_time(ev):.0f} s"])
+        binding.append([str(rank), name, o.binding if o.feasible else
+                        ("fails " + ", ".join(fails) if fails else "infeasible")])
+    out.append(_table(geo, ["#", "layout", "threads", "turns", "centre radius", "lane", "diameter", "headroom",
+                            "status"]))
     out.append("")
+    out.append(_table(grades, ["#", "layout", "grade inner", "grade centre", "grade outer", "drive/storey",
+                               "top-bottom"]))
+    speed = p.rules.design_speed.value if p.rules.design_speed else 15 / 3.6
+    out += ["  " + line for line in _wrap(
+        f"turns: per storey from the bottom; lane: the narrowest; diameter: outside face of the structure; "
+        f"drive/storey: 3-D length of a storey on the first thread's carriageway centre line; top-bottom: "
+        f"that line driven from the top level to the bottom at {format_speed(speed, u)} (each lane's own "
+        "line: see 'Drive and capacity per lane')", 96)]
+    out.append("")
+    wrapped = []
+    for r in binding:
+        lines = _wrap(r[2], 68)
+        wrapped.append([r[0], r[1], lines[0]])
+        wrapped += [["", "", more] for more in lines[1:]]
+    out.append(_table(wrapped, ["#", "layout", "binding constraint (feasible) or what fails"]))
+    out.append("")
+    out.append(comparison_text(result))
     for o in result.options:
         if o.feasible:
             continue
@@ -374,3 +390,205 @@ def design_table(result) -> str:
     out.append(f"Pareto set (diameter, steepest inner gradient, drive per storey): {len(result.pareto)} designs")
     out.append("CAUTION: " + CAUTION)
     return "\n".join(out) + "\n"
+
+
+# ----------------------------------------------------------------------------------
+# The consultant's comparison: traffic, quantities, sensitivity, margins
+
+SQ_FOOT = 0.3048 ** 2
+CU_YARD = 0.9144 ** 3
+
+
+def format_area(m2: float, units: str) -> str:
+    """``'1234 m²'`` or ``'13283 ft²'``."""
+    return f"{m2 / SQ_FOOT:,.0f} ft²" if units == "imperial" else f"{m2:,.0f} m²"
+
+
+def format_volume(m3: float, units: str) -> str:
+    """``'308 m³'`` or ``'403 yd³'`` (concrete is ordered by the cubic yard)."""
+    return f"{m3 / CU_YARD:,.0f} yd³" if units == "imperial" else f"{m3:,.1f} m³"
+
+
+def format_duration(seconds: float) -> str:
+    """``'48 s'`` or ``'12 min 05 s'``."""
+    if seconds < 600:
+        return f"{seconds:.0f} s"
+    m, s = divmod(int(round(seconds)), 60)
+    return f"{m} min {s:02d} s"
+
+
+def _plus_minus(x: float, units: str) -> str:
+    """The change per step up and down: ``'±0.32 m'`` (rises with the step), ``'∓0.92 m'``
+    (falls), ``'0'`` (none to the millimetre), ``'-'`` (not defined)."""
+    if not math.isfinite(x):
+        return "-"
+    if abs(x) < 5e-4:
+        return "0"
+    return ("±" if x > 0 else "∓") + format_length(abs(x), units, precision=2)
+
+
+#: Parameters of the sensitivity table, in a word.
+SHORT_PARAMETERS = {"storey_height": "storey", "slab_depth": "slab", "hanging_depth": "hanging",
+                    "gradient": "gradient"}
+
+#: Layout names short enough for the narrow comparison tables.
+SHORT_TITLES = {"single-one-way": "single one-way", "single-two-way": "single two-way", "double": "double",
+                "concentric": "concentric"}
+
+
+def comparison_dict(c) -> dict[str, Any] | None:
+    """The comparison of one option in SI (m, m², m³, s, vehicles per hour)."""
+    if c is None:
+        return None
+    t, q, s, b = c.traffic, c.quantities, c.sensitivity, c.basis
+    return {
+        "basis": {"design_speed_m_s": _r(t.speed), "headway_s": _r(t.headway), "headway_source": b.headway_source,
+                  "bays_to_empty": b.bays_to_empty, "bays_source": b.bays_source,
+                  "bay_width_m": _r(b.bay_width), "bay_length_m": _r(b.bay_length), "bay_source": b.bay_source,
+                  "aisle_width_m": _r(b.aisle_width), "aisle_source": b.aisle_source,
+                  "area_per_bay_m2": _r(b.area_per_bay), "parapet_height_m": _r(b.parapet_height),
+                  "parapet_source": b.parapet_source},
+        "lanes": [{"thread": ln.thread, "lane": ln.lane, "direction": ln.direction, "line_radius_m": _r(ln.radius),
+                   "drive_per_storey_m": [_r(x, 3) for x in ln.per_storey], "drive_total_m": _r(ln.total, 3),
+                   "time_s": _r(ln.time(t.speed), 1), "capacity_veh_h": _r(ln.capacity, 1)} for ln in t.lanes],
+        "capacity_inbound_veh_h": _r(t.inbound, 1), "capacity_outbound_veh_h": _r(t.outbound, 1),
+        "time_to_empty_s": _r(t.empty_time, 1) if t.empty_time is not None else None,
+        "quantities": {"deck_area_m2": _r(q.deck_area, 2), "deck_plan_area_m2": _r(q.plan_area, 2),
+                       "slab_volume_m3": _r(q.slab_volume, 3), "wall_height_m": _r(q.wall_height, 3),
+                       "outer_wall_area_m2": _r(q.outer_wall_area, 2), "core_wall_area_m2": _r(q.core_wall_area, 2),
+                       "kerb_length_m": _r(q.kerb_length, 3),
+                       "kerb_lines": [{"line": n, "length_m": _r(x, 3)} for n, x in q.kerb_lines],
+                       "plot": "square circumscribing the outside face of the structure",
+                       "plot_side_m": _r(q.plot_side), "plot_area_m2": _r(q.plot_area, 2),
+                       "bays_per_level": q.bays_per_level, "bays_all_levels": q.bays_all_levels},
+        "sensitivity": None if s is None else {
+            "binding": s.binding, "margin": s.key, "movable": s.movable, "note": s.note,
+            "rows": [{"parameter": r.parameter, "step": _r(r.step, 4), "radius_change_m_per_step": _r(r.d_radius, 5),
+                      "diameter_change_m_per_step": _r(r.d_diameter, 5),
+                      "binding_switches_within_plus_step": r.switch_plus or None,
+                      "binding_switches_within_minus_step": r.switch_minus or None} for r in s.rows]},
+        "tightest_checks": [{"id": k.id, "margin": _check_value(k, k.margin), "limit": _check_value(k, k.limit),
+                             "unit": "%" if k.quantity == "gradient" else ("m" if k.quantity == "length" else "")}
+                            for k in c.tightest],
+    }
+
+
+def _margin_text(k, units: str) -> str:
+    if k.quantity == "gradient":
+        return f"{round(100 * k.margin, 2) + 0.0:.2f} pts"
+    if k.quantity == "length":
+        return format_length(round(k.margin, 3) + 0.0, units, precision=3)
+    return f"{round(k.margin, 3) + 0.0:.3f}"
+
+
+def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str]]:
+    """The comparison of the options as small tables: ``(title, header, rows, note)``
+    for traffic per lane, capacity of the helix, quantities, sensitivity and margins;
+    in the project's units.  Shared by the terminal, the Markdown and the PDF."""
+    from .comparison import compare_options
+    p = result.project
+    u = p.units
+    comps = compare_options(result)
+    basis = p.comparison
+    lanes: list[list[str]] = []
+    cap: list[list[str]] = []
+    qty: list[list[str]] = []
+    sens: list[list[str]] = []
+    marg: list[list[str]] = []
+    speed = None
+    for rank, (o, c) in enumerate(zip(result.options, comps), 1):
+        name = f"{rank} {SHORT_TITLES[o.layout]}"
+        if c is None:
+            for rows in (lanes, cap, qty, sens, marg):
+                rows.append([name, "no design"])
+            continue
+        t, q, s = c.traffic, c.quantities, c.sensitivity
+        speed = t.speed
+        for i, ln in enumerate(t.lanes):
+            label = ln.lane if ln.lane != "lane" else ln.thread
+            lanes.append([name if i == 0 else "", label, ln.direction, format_length(ln.radius, u),
+                          format_length(ln.total / len(ln.per_storey), u), format_length(ln.total, u),
+                          format_duration(ln.time(t.speed)), f"{ln.capacity:,.0f}"])
+        cap.append([name, f"{t.inbound:,.0f}" if t.inbound else "0 (no up lane)",
+                    f"{t.outbound:,.0f}" if t.outbound else "0 (no down lane)",
+                    format_duration(t.empty_time) if t.empty_time is not None else "- (no way down)"])
+        qty.append([name, format_area(q.deck_area, u), format_volume(q.slab_volume, u),
+                    format_area(q.outer_wall_area, u), format_area(q.core_wall_area, u) if q.core_wall_area else "-",
+                    format_length(q.kerb_length, u, precision=1), format_length(q.plot_side, u),
+                    f"{q.bays_per_level} ({q.bays_all_levels})"])
+        if s is not None:
+            # The option's name, then what binds it, down the first column (narrow tables).
+            side = [name, "bound by", s.key or "-"] if s.key else [name]
+            for i, r in enumerate(s.rows):
+                step = "1 %" if r.parameter == "gradient" else (
+                    f"{r.step * 1000:.0f} mm" if u == "metric" else f"{format_length(r.step, u)} ({r.step * 1000:.0f} mm)")
+                switch = "; ".join(x for x in (f"+: {r.switch_plus}" if r.switch_plus else "",
+                                              f"-: {r.switch_minus}" if r.switch_minus else "") if x)
+                sens.append([side[i] if i < len(side) else "", f"{SHORT_PARAMETERS[r.parameter]} ±{step}",
+                             _plus_minus(r.d_radius, u), _plus_minus(r.d_diameter, u),
+                             switch or ("fixed" if not s.movable else "")])
+        for i, k in enumerate(c.tightest):
+            marg.append([name if i == 0 else "", k.id, _margin_text(k, u), k.status])
+    speed_text = format_speed(speed if speed is not None else 15 / 3.6, u)
+    b = basis
+    return [
+        ("Drive and capacity per lane", ["option", "lane", "way", "line radius", "drive/storey", "top-bottom",
+                                         "time", "veh/h"], lanes,
+         f"line radius: the lane's own centre line (its driving line); drive/storey: mean 3-D length of one "
+         f"storey on it, connection to connection; top-bottom: all storeys; time: at the design speed "
+         f"{speed_text}; veh/h: one lane at a headway of {b.headway:.2f} s (3600/headway; {b.headway_source})."),
+        ("Capacity of the helix", ["option", "inbound veh/h", "outbound veh/h", f"empty {b.bays_to_empty} bays"], cap,
+         "inbound: every up lane together (the morning peak); outbound: every down lane (the evening peak); "
+         f"a one-way single helix carries one way only. empty: the last of {b.bays_to_empty} cars leaves the bottom "
+         f"(bays - 1) outbound headways after the first enters the top, plus the drive down "
+         f"({b.bays_source})."),
+        ("Quantities", ["option", "deck", "slab", "outer wall", "core wall", "kerbs", "plot", "bays"], qty,
+         "deck: true sloped area of every running surface kerb to kerb, landings and transitions included; "
+         f"slab: deck x slab depth ({format_length(p.structure.slab_depth, u)}; no downstands or upstands); walls: "
+         f"inside face of the outer wall and outside face of the core, from the bottom level to the top plus a "
+         f"{format_length(b.parapet_height, u)} parapet ({b.parapet_source}); kerbs: 3-D length of every kerb line; "
+         "plot: side of the square circumscribing the outside face of the structure (clearances and wall "
+         f"included); bays: standard bays that square would hold on one level (all levels), at "
+         f"{format_length(b.bay_width, u)} x {format_length(b.bay_length, u)} plus half a "
+         f"{format_length(b.aisle_width, u)} aisle per bay, rounded down ({b.bay_source}; {b.aisle_source})."),
+        ("Sensitivity of the chosen radius", ["option", "step", "radius", "diameter", "switch"], sens,
+         "bound by: the constraint on whose boundary the radius lies (of a failing option: of its "
+         "least-failing design); radius, diameter: change of the centre-line radius and overall diameter per step up (down: the "
+         "opposite), from the exact boundary of the binding constraint by implicit differentiation "
+         "(dr/dp = -(dm/dp)/(dm/dr) of its margin m), not by searching again; 0: the binding constraint does not "
+         "depend on that parameter. storey height: every storey; allowed gradient: every limit of the rule set "
+         "(and any target). switch: another screened rule fails within that step up (+) or down (-), "
+         "so the linear value holds only up to it; fixed: the radius is set by the search range or the geometry."),
+        ("Tightest margins", ["option", "check", "margin", "status"], marg,
+         "The three checks of each design nearest their limits (by margin relative to the limit): the binding "
+         "rule and the next to bind."),
+    ]
+
+
+def comparison_text(result) -> str:
+    """:func:`comparison_tables` for the terminal."""
+    out = []
+    for title, header, rows, note in comparison_tables(result):
+        width = len(header)
+        rows = [r + [""] * (width - len(r)) for r in rows]
+        out += [title, _table(rows, header)]
+        out += ["  " + line for line in _wrap(note, 96)]
+        out.append("")
+    return "\n".join(out)
+
+
+def _wrap(text: str, width: int) -> list[str]:
+    import textwrap
+    return textwrap.wrap(text, width) or [""]
+
+
+def comparison_blocks(result) -> list[tuple[str, object]]:
+    """:func:`comparison_tables` as report blocks (a heading, the table, its note) for
+    the PDF and the Markdown; column widths follow the longest text of each column."""
+    blocks: list[tuple[str, object]] = []
+    for title, header, rows, note in comparison_tables(result):
+        rows = [r + [""] * (len(header) - len(r)) for r in rows]
+        longest = [max([len(h)] + [len(r[i]) for r in rows]) + 2 for i, h in enumerate(header)]
+        total = float(sum(longest))
+        blocks += [("h2", title), ("table", (header, rows, [n / total for n in longest])), ("p", note)]
+    return blocks
