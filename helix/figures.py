@@ -665,9 +665,10 @@ def section_figure(ev: Evaluation) -> Figure:
                     ax.annotate("", (x, float(s(z0 + c_min))), (x, float(s(z0))),
                                 arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["critical"], lw=1.2, shrinkA=0,
                                                 shrinkB=0, mutation_scale=8), zorder=7)
-                    ax.annotate(f"clear {format_length(c_min, p.units)} on this line\n"
-                                f"(least {format_length(hp.clear, p.units)} at r = "
-                                f"{format_length(hp.radius, p.units)})",
+                    storey = ev.headroom_at.storey if ev.headroom_at is not None else ""
+                    ax.annotate(f"least clear headroom, {storey}, at {format_level(z0, p.units)}:\n"
+                                f"{format_length(c_min, p.units)} on this line, {format_length(hp.clear, p.units)} "
+                                f"at r = {format_length(hp.radius, p.units)}\nunder {hp.above}",
                                 (x, float(s(z0 + 0.5 * c_min))), (-6, 0), textcoords="offset points", fontsize=SMALL,
                                 color=PALETTE["critical"], va="center", ha="right", zorder=9,
                                 bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=PALETTE["critical"], lw=0.6))
@@ -727,8 +728,8 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
     R = h.structure_radius
     zmin = p.levels[0].level - 1.0
     zmax = p.levels[-1].level + 1.5 + (st.cover_soffit - p.levels[-1].level if st.cover_soffit else 0)
-    box = (34.0, 64.0, 300.0, 283.0)
-    n = drawing_scale((2.1 * R, zmax - zmin), (box[2] - box[0] - 8.0, box[3] - box[1] - 30.0))
+    box = (34.0, 64.0, 405.0, 283.0)
+    n = drawing_scale((2.05 * R, zmax - zmin), (box[2] - box[0] - 8.0, box[3] - box[1] - 30.0))
     with matplotlib.rc_context(STYLE):
         fig, sheet = _sheet(p, "cross_section", f"Section A-A, radial, bearings {_wcb(bearing, ev)} (right) "
                             f"and {_wcb(bearing + math.pi, ev)} (left)", f"1:{n} at A3", (n, s.unit_m, s.name))
@@ -827,16 +828,15 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
             handles.append(Patch(fc="#F0F0F0", ec=PALETTE["structure"], label="central core or void"))
         if wall > 0:
             handles.append(Patch(fc=PALETTE["slab"], ec=PALETTE["structure"], hatch="xx", label="outer wall"))
-        bx0 = box[2] + 12.0
-        _note(fig, bx0, box[3], "Legend", fontsize=8.5, fontweight="bold")
-        _legend(fig, ax, handles, bx0, box[3] - 5.0)
+        bx0 = 24.0
+        _legend(fig, ax, handles, bx0, 57.0, ncol=2)
         cf = h.threads[0].cross_fall
         lines = [f"Section A-A: the cut marked on the plan (sheet {_NUMBER['plan']:02d}).",
                  f"Cross-fall {100 * abs(cf):.1f} % "
                  f"{'falling to the centre' if cf > 0 else 'falling outward' if cf < 0 else '(none)'}.",
                  f"Slab {format_length(st.slab_depth, p.units)}, hanging {format_length(st.hanging_depth, p.units)}.",
                  "Levels: each kerb of each turn.", "True scale, no vertical exaggeration."]
-        _note(fig, bx0, box[3] - 60.0, _wrap_lines(lines, 95.0, SMALL), linespacing=1.25)
+        _note(fig, 150.0, 57.0, _wrap_lines(lines, 70.0, SMALL), linespacing=1.25)
         _declutter(fig)
     return fig
 
@@ -919,6 +919,10 @@ def clearance_figure(ev: Evaluation) -> Figure:
             up = 1.0 if kind == "ground" else 1.6
             set_true_scale(ax, n, (float(s(c.s_point)), float(s(zc + 0.5 * v.height + 0.2 * up))), s.unit_m)
             ylo = ax.get_ylim()[0]
+            xl = ax.get_xlim()  # the path across the whole view, its breakpoints included
+            xs = np.linspace(xl[0] / s.factor, xl[1] / s.factor, 1600)
+            xs = np.unique(np.concatenate([xs, path.breaks[(path.breaks > xs[0]) & (path.breaks < xs[-1])]]))
+            zg = path.z(xs)
             ax.fill_between(s(xs), ylo, s(zg), color=PALETTE["slab"], lw=0, zorder=1)
             ax.plot(s(xs), s(zg), color="black", lw=1.3, zorder=2)
             for kind_, _st, a, b in t.profile.segments():
@@ -1245,6 +1249,7 @@ def pareto_figure(result: Any) -> Figure:
             handles.append(Line2D([], [], marker="o", mfc="none", mec="black", ls="none", ms=7,
                                   label="Pareto set (with drive length)"))
         kinds = set()
+        labels: list[tuple[float, float, str]] = []
         for o in result.options:
             if o.evaluation is None:
                 continue
@@ -1256,12 +1261,19 @@ def pareto_figure(result: Any) -> Figure:
                 kinds.add("best" if star else "layout")
                 ax.plot([x], [y], marker="*" if star else "P", ms=15 if star else 10, color=PALETTE["critical"],
                         mec="black", ls="none", zorder=5)
-                text = f"{LAYOUT_TITLES[o.layout]}: {'best' if star else 'best of layout'}"
+                text = f"{LAYOUT_TITLES[o.layout]}:\n{'chosen' if star else 'best of layout'}"
             else:
                 kinds.add("failed")
                 ax.plot([x], [y], marker="X", ms=10, color=PALETTE["thread2"], mec="black", ls="none", zorder=5)
-                text = f"{LAYOUT_TITLES[o.layout]}: fails ({', '.join(c.id for c in ev.checks if not c.ok)[:40]})"
-            ax.annotate(text, (x, y), (6, 6), textcoords="offset points", fontsize=SMALL,
+                n_fail = sum(1 for c in ev.checks if not c.ok)
+                text = f"{LAYOUT_TITLES[o.layout]}:\nfails {n_fail} check{'s' if n_fail != 1 else ''}"
+            labels.append((x, y, text))
+        lo_x = min(xs) if xs else 0.0
+        hi_x = max(xs) if xs else 1.0
+        for x, y, text in labels:  # each label on the side of its point towards the middle
+            right = x > 0.5 * (lo_x + hi_x)
+            ax.annotate(text, (x, y), (-7 if right else 7, 5), textcoords="offset points", fontsize=SMALL,
+                        ha="right" if right else "left", va="bottom",
                         bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.85))
         if "best" in kinds:
             handles.append(Line2D([], [], marker="*", ms=11, color=PALETTE["critical"], mec="black", ls="none",
@@ -1279,7 +1291,8 @@ def pareto_figure(result: Any) -> Figure:
         if xs:
             lo, hi = min(xs), max(xs)
             pad = 0.08 * max(hi - lo, 1.0)
-            ax.set_xlim(lo - pad, hi + 2.5 * pad)
+            ax.set_xlim(lo - pad, hi + pad)
+        ax.margins(y=0.14)
         ax.set_xlabel(f"overall diameter with structure ({s.name})")
         ax.set_ylabel("steepest gradient at the inner kerb (%)")
         ax.grid(True, lw=0.3, color="#E4E4E4")
