@@ -27,7 +27,7 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Circle, FancyArrowPatch, Patch, Polygon, Rectangle, Wedge
-from matplotlib.text import Text
+from matplotlib.text import Annotation, Text
 
 from .clearance import headroom
 from .evaluate import Evaluation
@@ -176,11 +176,15 @@ def _declutter(fig: Figure) -> None:
     drawing stays legible at its scale; required labels are placed not to overlap."""
     renderer = fig.canvas.get_renderer()  # type: ignore[attr-defined]
     texts = drawn_texts(fig)
-    kept = [t.get_window_extent(renderer) for t in texts if t.get_gid() != "optional"]
+    for t in texts:  # an annotation places its text at draw time: place it now
+        if isinstance(t, Annotation):
+            t.update_positions(renderer)
+    # Text.get_window_extent: the text alone (an annotation's own adds its leader line).
+    kept = [Text.get_window_extent(t, renderer) for t in texts if t.get_gid() != "optional"]
     for t in texts:
         if t.get_gid() != "optional":
             continue
-        box = t.get_window_extent(renderer)
+        box = Text.get_window_extent(t, renderer)
         ax = t.axes
         inside = ax is None or ax.get_window_extent(renderer).padded(-1).contains(box.x0, box.y0) and \
             ax.get_window_extent(renderer).padded(-1).contains(box.x1, box.y1)
@@ -666,11 +670,14 @@ def section_figure(ev: Evaluation) -> Figure:
                                 arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["critical"], lw=1.2, shrinkA=0,
                                                 shrinkB=0, mutation_scale=8), zorder=7)
                     storey = ev.headroom_at.storey if ev.headroom_at is not None else ""
+                    xl_ = ax.get_xlim()  # the label in the free space at the top of the panel
+                    frac = (x - xl_[0]) / (xl_[1] - xl_[0])
                     ax.annotate(f"least clear headroom, {storey}, at {format_level(z0, p.units)}:\n"
                                 f"{format_length(c_min, p.units)} on this line, {format_length(hp.clear, p.units)} "
                                 f"at r = {format_length(hp.radius, p.units)}\nunder {hp.above}",
-                                (x, float(s(z0 + 0.5 * c_min))), (-6, 0), textcoords="offset points", fontsize=SMALL,
-                                color=PALETTE["critical"], va="center", ha="right", zorder=9,
+                                (x, float(s(z0 + c_min))), (max(frac, 0.01), 0.97), textcoords="axes fraction",
+                                fontsize=SMALL, color=PALETTE["critical"], va="top", ha="left", zorder=9,
+                                arrowprops=dict(arrowstyle="-", color=PALETTE["critical"], lw=0.6),
                                 bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=PALETTE["critical"], lw=0.6))
             ax.set_title(f"{name}: driving line at r = {format_length(r, p.units)}", loc="left", fontsize=8.5)
             ax.set_xlabel(f"chainage along this line, in the direction of ascent ({s.name})", labelpad=1)
@@ -728,7 +735,7 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
     R = h.structure_radius
     zmin = p.levels[0].level - 1.0
     zmax = p.levels[-1].level + 1.5 + (st.cover_soffit - p.levels[-1].level if st.cover_soffit else 0)
-    box = (34.0, 64.0, 405.0, 283.0)
+    box = (34.0, 72.0, 405.0, 283.0)
     n = drawing_scale((2.05 * R, zmax - zmin), (box[2] - box[0] - 8.0, box[3] - box[1] - 30.0))
     with matplotlib.rc_context(STYLE):
         fig, sheet = _sheet(p, "cross_section", f"Section A-A, radial, bearings {_wcb(bearing, ev)} (right) "
