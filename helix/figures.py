@@ -60,7 +60,7 @@ THREAD_COLOURS = ("#0072B2", "#D55E00", "#009E73", "#CC79A7")
 DIRECTION_STYLE = {"up": ("#0072B2", (0, (9, 3, 2, 3))), "down": ("#D55E00", (0, (5, 2.5))),
                    "up and down": ("#009E73", (0, (1.5, 2)))}
 
-STYLE = {
+STYLE: dict[str, Any] = {
     "font.family": "DejaVu Sans",
     "font.size": 8,
     "axes.titlesize": 9,
@@ -88,6 +88,11 @@ SHEET_OF = {"plan": "A3", "section": "A3", "cross_section": "A3", "clearance": "
 _NUMBER = {"plan": 1, "section": 2, "cross_section": 3, "clearance": 4, "gradient": 5, "pareto": 6}
 SMALL = 7.5  # pt: notes and labels, 2.6 mm on paper
 assert SMALL >= MIN_FONT_PT
+
+
+def _styled() -> Any:
+    """The shared style as a context (matplotlib's stubs type the keys as literals)."""
+    return matplotlib.rc_context(STYLE)  # type: ignore[arg-type]
 
 
 class _Scale:
@@ -244,7 +249,7 @@ def plan_figure(ev: Evaluation) -> Figure:
     y0, y1 = min(0.0, cy - R), max(D, cy + R)
     box = (34.0, 30.0, 224.0, 283.0)
     n = drawing_scale((x1 - x0, y1 - y0), (box[2] - box[0] - 36.0, box[3] - box[1] - 36.0))
-    with matplotlib.rc_context(STYLE):
+    with _styled():
         fig, sheet = _sheet(p, "plan", f"Plan - {h.layout} helix, {p.traffic}",
                             f"1:{n} at {SHEET_OF['plan']}", (n, s.unit_m, s.name))
         ax = axes_mm(fig, sheet, box)
@@ -386,11 +391,11 @@ def plan_figure(ev: Evaluation) -> Figure:
                 continue
             drawn_lines.add(key2)
             ax.plot(s(xy[:, 0]), s(xy[:, 1]), color=PALETTE["structure"], lw=1.0, ls=(0, (1, 1.5)))
-            lane = next((ln for ln in h.threads[a.line.thread].lanes if ln.name == a.line.lane), None)
+            aisle_lane = next((ln for ln in h.threads[a.line.thread].lanes if ln.name == a.line.lane), None)
             t = h.threads[a.line.thread]
             # Traffic that climbs leaves the floor below (entry) at the start of its storey and
             # reaches the floor above (exit) at the end; down traffic the other way round.
-            is_up = lane is None or lane.direction != "down"
+            is_up = aisle_lane is None or aisle_lane.direction != "down"
             first = a.line.level == t.levels[0]
             last = a.line.level == t.levels[-1]
             side = a.line.side
@@ -457,14 +462,14 @@ def plan_figure(ev: Evaluation) -> Figure:
         wb = free + math.pi
         for t in h.threads[:1]:
             for lane in t.lanes:
-                a_ = (C[0] + s(lane.inner_radius * math.cos(wb)), C[1] + s(lane.inner_radius * math.sin(wb)))
-                b_ = (C[0] + s(lane.outer_radius * math.cos(wb)), C[1] + s(lane.outer_radius * math.sin(wb)))
-                ax.annotate("", b_, a_, arrowprops=dict(arrowstyle="<|-|>", color="#333333", lw=0.6, shrinkA=0,
+                pa = (C[0] + s(lane.inner_radius * math.cos(wb)), C[1] + s(lane.inner_radius * math.sin(wb)))
+                pb = (C[0] + s(lane.outer_radius * math.cos(wb)), C[1] + s(lane.outer_radius * math.sin(wb)))
+                ax.annotate("", pb, pa, arrowprops=dict(arrowstyle="<|-|>", color="#333333", lw=0.6, shrinkA=0,
                                                         shrinkB=0, mutation_scale=7))
                 rl = lane.centre_radius * s.factor
-                off = 4.5 * paper
+                shift = 4.5 * paper
                 nx_, ny_ = -math.sin(wb), math.cos(wb)
-                ax.text(C[0] + rl * math.cos(wb) + off * nx_, C[1] + rl * math.sin(wb) + off * ny_,
+                ax.text(C[0] + rl * math.cos(wb) + shift * nx_, C[1] + rl * math.sin(wb) + shift * ny_,
                         f"lane {format_length(lane.width, p.units)}", fontsize=SMALL, ha="center", va="center",
                         rotation=0, bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none"))
         # Overall diameter, above the helix; setbacks to the plot edges through the axis.
@@ -480,12 +485,12 @@ def plan_figure(ev: Evaluation) -> Figure:
         setbacks = [("left", (0.0, cy), (cx - R, cy)), ("right", (cx + R, cy), (W, cy)),
                     ("bottom", (cx, 0.0), (cx, cy - R)), ("top", (cx, cy + R), (cx, D))]
         setback_lines = []
-        for where, a_, b_ in setbacks:
-            d_ = math.hypot(b_[0] - a_[0], b_[1] - a_[1]) * (1 if (b_[0] - a_[0]) + (b_[1] - a_[1]) >= 0 else -1)
+        for where, q0, q1 in setbacks:
+            d_ = math.hypot(q1[0] - q0[0], q1[1] - q0[1]) * (1 if (q1[0] - q0[0]) + (q1[1] - q0[1]) >= 0 else -1)
             setback_lines.append(f"{where} {format_length(d_, p.units)}")
             if d_ <= 0:
                 continue
-            ax.annotate("", tuple(s(b_)), tuple(s(a_)), arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["footprint"],
+            ax.annotate("", tuple(s(q1)), tuple(s(q0)), arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["footprint"],
                                                                         lw=0.6, shrinkA=0, shrinkB=0, mutation_scale=6))
         ax.plot(C[0], C[1], "+", color="black", ms=8)
         ax.set_xlabel(f"x ({s.name}), plot coordinates")
@@ -597,7 +602,7 @@ def section_figure(ev: Evaluation) -> Figure:
     exaggeration = n_h / n_v
     ratio = f"vertical scale 1:{n_v}, horizontal 1:{n_h}: {exaggeration:g}x vertical exaggeration" \
         if n_v != n_h else f"1:{n_h}, no vertical exaggeration"
-    with matplotlib.rc_context(STYLE):
+    with _styled():
         fig, sheet = _sheet(p, "section", "Unrolled sections along each lane's driving line",
                             f"H 1:{n_h}, V 1:{n_v} at A3", (n_h, s.unit_m, s.name))
         kinds_drawn: set[str] = set()
@@ -737,7 +742,7 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
     zmax = p.levels[-1].level + 1.5 + (st.cover_soffit - p.levels[-1].level if st.cover_soffit else 0)
     box = (34.0, 72.0, 405.0, 283.0)
     n = drawing_scale((2.05 * R, zmax - zmin), (box[2] - box[0] - 8.0, box[3] - box[1] - 30.0))
-    with matplotlib.rc_context(STYLE):
+    with _styled():
         fig, sheet = _sheet(p, "cross_section", f"Section A-A, radial, bearings {_wcb(bearing, ev)} (right) "
                             f"and {_wcb(bearing + math.pi, ev)} (left)", f"1:{n} at A3", (n, s.unit_m, s.name))
         ax = axes_mm(fig, sheet, box)
@@ -799,22 +804,22 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
             side = 1 if abs(d) < 1e-6 else (-1 if abs(abs(d) - math.pi) < 1e-6 else 0)
             if side:
                 z0 = float(t.level(hp.theta, hp.radius))
-                x = float(s(side * hp.radius))
-                ax.annotate("", (x, float(s(z0 + hp.clear))), (x, float(s(z0))),
+                xh = float(s(side * hp.radius))
+                ax.annotate("", (xh, float(s(z0 + hp.clear))), (xh, float(s(z0))),
                             arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["critical"], lw=1.3, shrinkA=0, shrinkB=0,
                                             mutation_scale=8), zorder=7)
                 ax.annotate(f"clear {format_length(hp.clear, p.units)}\n(gap {format_length(hp.gap, p.units)} less "
                             f"{format_length(st.depth, p.units)} structure)",
-                            (x, float(s(z0 + 0.5 * hp.clear))), (-6 * side, 0), textcoords="offset points",
+                            (xh, float(s(z0 + 0.5 * hp.clear))), (-6 * side, 0), textcoords="offset points",
                             ha="right" if side > 0 else "left", va="center", fontsize=SMALL, color=PALETTE["critical"],
                             bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=PALETTE["critical"], lw=0.6), zorder=8)
         # Dimensions below the lowest turn: radii from the axis and lane widths.
-        radii = sorted({round(v, 6) for t in h.threads for v in (t.inner_radius, t.outer_radius)})
-        for j, r in enumerate(radii):
+        kerb_radii = sorted({round(v, 6) for t in h.threads for v in (t.inner_radius, t.outer_radius)})
+        for j, rk in enumerate(kerb_radii):
             y = float(s(zmin)) - (3.0 + 5.0 * j) * paper
-            ax.annotate("", (float(s(r)), y), (0.0, y), arrowprops=dict(arrowstyle="-|>", color="#333333", lw=0.6,
-                                                                        shrinkA=0, shrinkB=0, mutation_scale=7))
-            ax.text(float(s(r)) + 1.0 * paper, y, f"r {format_length(r, p.units)}", fontsize=SMALL, va="center",
+            ax.annotate("", (float(s(rk)), y), (0.0, y), arrowprops=dict(arrowstyle="-|>", color="#333333", lw=0.6,
+                                                                         shrinkA=0, shrinkB=0, mutation_scale=7))
+            ax.text(float(s(rk)) + 1.0 * paper, y, f"r {format_length(rk, p.units)}", fontsize=SMALL, va="center",
                     ha="left", bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none"))
         for j, lane in enumerate(ln for t in h.threads for ln in t.lanes):
             y = float(s(zmin)) - (3.0 + 5.0 * j) * paper
@@ -893,8 +898,9 @@ def clearance_figure(ev: Evaluation) -> Figure:
     from .vehicle_clearance import PathProfile
     p, h, v = ev.project, ev.helix, ev.project.vehicle
     s = _Scale(p.units)
-    cases = [("ground", ev.ground, "Underbody and overhang clearance"), ("roof", ev.roof, "Roof clearance")]
-    cases = [c for c in cases if c[1] is not None]
+    cases = [(kind, vc, label) for kind, vc, label in
+             (("ground", ev.ground, "Underbody and overhang clearance"), ("roof", ev.roof, "Roof clearance"))
+             if vc is not None]
     span = v.length + 1.5
     npan = max(len(cases), 1)
     panel_h = (283.0 - 64.0 - 16.0 * (npan - 1)) / npan
@@ -906,7 +912,7 @@ def clearance_figure(ev: Evaluation) -> Figure:
         zg = path.z(xs)
         heights.append(float(np.max(zg) - np.min(zg)) + v.height + (1.6 if kind == "roof" else 0.9))
     n = choose_scale((2 * span, max(heights or [1.0])), (345.0, panel_h - 8.0))
-    with matplotlib.rc_context(STYLE):
+    with _styled():
         fig, sheet = _sheet(p, "clearance", f"Clearances of the design vehicle {v.name}", f"1:{n} at A3",
                             (n, s.unit_m, s.name))
         if not cases:
@@ -1038,7 +1044,7 @@ def gradient_figure(ev: Evaluation) -> Figure:
     s = _Scale(p.units)
     styles = ("-", (0, (6, 3)), (0, (2, 2)), (0, (8, 2, 2, 2)))
     markers = ("o", "s", "D", "^")
-    with matplotlib.rc_context(STYLE):
+    with _styled():
         fig, sheet = _sheet(p, "gradient", "Gradient along the direction of travel, across the ramp's width",
                             "not to scale (graph)", None)
         ax = axes_mm(fig, sheet, (38.0, 64.0, 186.0, 190.0))
@@ -1049,12 +1055,12 @@ def gradient_figure(ev: Evaluation) -> Figure:
             col = THREAD_COLOURS[i % 4]
             slopes = [storey_max_slope(t, k) for k in range(len(rises))]
             k = int(np.argmax(slopes))
-            r = np.linspace(t.inner_radius, t.outer_radius, 200)
-            g = 100 * slopes[k] / r
+            radii = np.linspace(t.inner_radius, t.outer_radius, 200)
+            g = 100 * slopes[k] / radii
             top = max(top, float(g.max()))
             # Threads with the same curve stay visible: each its own line style and markers
             # placed at its own offset along the curve, the first drawn widest underneath.
-            ax.plot(s(r), g, color=col, lw=2.6 - 0.8 * i, ls=styles[i % 4], marker=markers[i % 4], ms=4,
+            ax.plot(s(radii), g, color=col, lw=2.6 - 0.8 * i, ls=styles[i % 4], marker=markers[i % 4], ms=4,
                     markevery=(8 + 12 * i, 40), zorder=3 + i)
             handles.append(Line2D([], [], color=col, lw=2.6 - 0.8 * i, ls=styles[i % 4], marker=markers[i % 4], ms=4,
                                   label=f"{t.name}: {p.levels[t.levels[k]].name} to {p.levels[t.levels[k + 1]].name} "
@@ -1106,7 +1112,7 @@ def _save(fig, fmt: str) -> bytes:
         return _savefig(fig, fmt)
     except (RuntimeError, ValueError, OverflowError) as exc:
         title = getattr(fig, "_helix_title", "figure")
-        with matplotlib.rc_context(STYLE):  # the title holds user text: no mathtext here either
+        with _styled():  # the title holds user text: no mathtext here either
             note = Figure(figsize=fig.get_size_inches())
             FigureCanvasAgg(note)
             note.suptitle(title, x=0.05, ha="left", fontsize=12, fontweight="bold")
@@ -1119,7 +1125,7 @@ def _save(fig, fmt: str) -> bytes:
 def figure_bytes(name: str, fig) -> dict[str, bytes]:
     """``fig`` as ``name.png`` (300 dpi) and ``name.svg``; the figure is closed."""
     try:
-        with matplotlib.rc_context(STYLE):
+        with _styled():
             return {f"{name}.png": _save(fig, "png"), f"{name}.svg": _save(fig, "svg")}
     finally:
         _close(fig)
@@ -1157,7 +1163,7 @@ def start_render(ev: Evaluation, keep: dict) -> tuple[dict[str, bytes], "PngJob"
     for name, make, _ in FIGURES:
         keep[name] = make(ev)
     job = PngJob(keep)
-    with matplotlib.rc_context(STYLE):
+    with _styled():
         for name in keep:
             svg[f"{name}.svg"] = _save(keep[name], "svg")
     return svg, job
@@ -1186,7 +1192,7 @@ class PngJob:
             try:
                 import pickle
                 os.close(r)
-                with matplotlib.rc_context(STYLE):
+                with _styled():
                     data = pickle.dumps({f"{n}.png": _save(f, "png") for n, f in self.figs.items()})
                 view = memoryview(data)
                 while view:
@@ -1200,7 +1206,7 @@ class PngJob:
     def result(self) -> dict[str, bytes]:
         import os
         import pickle
-        if self.pid is not None:
+        if self.pid is not None and self.read_fd is not None:
             chunks = []
             while True:
                 chunk = os.read(self.read_fd, 1 << 20)
@@ -1215,7 +1221,7 @@ class PngJob:
                     return pickle.loads(b"".join(chunks))
                 except Exception:  # a broken stream: make them here instead
                     pass
-        with matplotlib.rc_context(STYLE):
+        with _styled():
             return {f"{n}.png": _save(f, "png") for n, f in self.figs.items()}
 
 
@@ -1234,7 +1240,7 @@ def pareto_figure(result: Any) -> Figure:
     p = result.project
     s = _Scale(p.units)
     markers = {"single-one-way": "o", "single-two-way": "s", "double": "D", "concentric": "^"}
-    with matplotlib.rc_context(STYLE):
+    with _styled():
         fig, sheet = _sheet(p, "pareto", f"Design search: footprint against steepest gradient (objective "
                             f"{p.search.objective})", "not to scale (graph)", None)
         ax = axes_mm(fig, sheet, (38.0, 64.0, 186.0, 190.0))
@@ -1243,9 +1249,9 @@ def pareto_figure(result: Any) -> Figure:
         layouts = sorted({c["layout"] for c in result.cloud})
         for i, lay in enumerate(layouts):
             pts = [c for c in result.cloud if c["layout"] == lay]
-            x = list(s([c["diameter_m"] for c in pts]))
-            xs += x
-            ax.scatter(x, [c["steepest_inner_pct"] for c in pts], s=14, marker=markers.get(lay, "o"),
+            dia = [float(v) for v in s([c["diameter_m"] for c in pts])]
+            xs += dia
+            ax.scatter(dia, [c["steepest_inner_pct"] for c in pts], s=14, marker=markers.get(lay, "o"),
                        color=THREAD_COLOURS[i % 4], alpha=0.45)
             handles.append(Line2D([], [], marker=markers.get(lay, "o"), color=THREAD_COLOURS[i % 4], alpha=0.6,
                                   ls="none", label=f"{LAYOUT_TITLES[lay]}: feasible screened designs"))
@@ -1261,25 +1267,25 @@ def pareto_figure(result: Any) -> Figure:
             if o.evaluation is None:
                 continue
             ev = o.evaluation
-            x, y = float(s(ev.helix.overall_diameter)), 100 * ev.max_gradient("inner kerb")
-            xs.append(x)
+            px, py = float(s(ev.helix.overall_diameter)), 100 * ev.max_gradient("inner kerb")
+            xs.append(px)
             if o.feasible:
                 star = result.options.index(o) == result.best
                 kinds.add("best" if star else "layout")
-                ax.plot([x], [y], marker="*" if star else "P", ms=15 if star else 10, color=PALETTE["critical"],
+                ax.plot([px], [py], marker="*" if star else "P", ms=15 if star else 10, color=PALETTE["critical"],
                         mec="black", ls="none", zorder=5)
                 text = f"{LAYOUT_TITLES[o.layout]}:\n{'chosen' if star else 'best of layout'}"
             else:
                 kinds.add("failed")
-                ax.plot([x], [y], marker="X", ms=10, color=PALETTE["thread2"], mec="black", ls="none", zorder=5)
+                ax.plot([px], [py], marker="X", ms=10, color=PALETTE["thread2"], mec="black", ls="none", zorder=5)
                 n_fail = sum(1 for c in ev.checks if not c.ok)
                 text = f"{LAYOUT_TITLES[o.layout]}:\nfails {n_fail} check{'s' if n_fail != 1 else ''}"
-            labels.append((x, y, text))
+            labels.append((px, py, text))
         lo_x = min(xs) if xs else 0.0
         hi_x = max(xs) if xs else 1.0
-        for x, y, text in labels:  # each label on the side of its point towards the middle
-            right = x > 0.5 * (lo_x + hi_x)
-            ax.annotate(text, (x, y), (-7 if right else 7, 5), textcoords="offset points", fontsize=SMALL,
+        for px, py, text in labels:  # each label on the side of its point towards the middle
+            right = px > 0.5 * (lo_x + hi_x)
+            ax.annotate(text, (px, py), (-7 if right else 7, 5), textcoords="offset points", fontsize=SMALL,
                         ha="right" if right else "left", va="bottom",
                         bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.85))
         if "best" in kinds:

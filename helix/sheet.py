@@ -112,7 +112,8 @@ def set_true_scale(ax: Axes, n_x: int, centre: tuple[float, float], unit_m: floa
     1:``n_y`` (default the same), the view centred on ``centre`` (drawing units)."""
     n_y = n_x if n_y is None else n_y
     pos = ax.get_position()
-    fig = ax.figure
+    fig = ax.get_figure(root=True)
+    assert fig is not None
     w_mm = pos.width * fig.get_figwidth() * 25.4
     h_mm = pos.height * fig.get_figheight() * 25.4
     half_x = 0.5 * w_mm * n_x / (1000.0 * unit_m)
