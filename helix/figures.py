@@ -645,7 +645,8 @@ def section_figure(ev: Evaluation) -> Figure:
                 x = float(s(t.chainage(c, r)))
                 ax.plot([x], [s(lvl.level)], "o", color=PALETTE["critical"], ms=3.5, zorder=5)
                 at_end = c > prof.start + 0.85 * (prof.end - prof.start)
-                ax.annotate(f"{lvl.name} {format_level(lvl.level, p.units)}", (x, float(s(lvl.level))),
+                ax.annotate(f"{lvl.name} {format_level(lvl.level, p.units)}\nch {float(s(t.chainage(c, r))):.2f}",
+                            (x, float(s(lvl.level))),
                             (-3 if at_end else 3, -4), textcoords="offset points", fontsize=SMALL, va="top",
                             ha="right" if at_end else "left", zorder=6,
                             bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.8))
@@ -741,14 +742,15 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
     zmin = p.levels[0].level - 1.0
     zmax = p.levels[-1].level + 1.5 + (st.cover_soffit - p.levels[-1].level if st.cover_soffit else 0)
     box = (34.0, 72.0, 405.0, 283.0)
-    n = drawing_scale((2.05 * R, zmax - zmin), (box[2] - box[0] - 8.0, box[3] - box[1] - 30.0))
+    # Dimension rows under the lowest turn, 5 mm apart on paper: one per kerb radius or lane.
+    n_dims = max(len({round(v, 6) for t in h.threads for v in (t.inner_radius, t.outer_radius)}),
+                 sum(len(t.lanes) for t in h.threads))
+    n = drawing_scale((2.05 * R, zmax - zmin), (box[2] - box[0] - 8.0, box[3] - box[1] - 8.0 - 5.0 * n_dims))
     with _styled():
         fig, sheet = _sheet(p, "cross_section", f"Section A-A, radial, bearings {_wcb(bearing, ev)} (right) "
                             f"and {_wcb(bearing + math.pi, ev)} (left)", f"1:{n} at A3", (n, s.unit_m, s.name))
         ax = axes_mm(fig, sheet, box)
         paper = n / 1000.0 / s.unit_m  # drawing units per mm of paper
-        n_dims = max(len({round(v, 6) for t in h.threads for v in (t.inner_radius, t.outer_radius)}),
-                     sum(len(t.lanes) for t in h.threads))
         set_true_scale(ax, n, (0.0, 0.5 * (float(s(zmin)) - (4.0 + 5.0 * n_dims) * paper + float(s(zmax)))), s.unit_m)
         wall = st.wall_thickness
         for side in (1, -1):
@@ -789,9 +791,12 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
                         zk = float(t.level(th, rk))
                         inward = (side > 0) == at_inner  # text runs from the kerb into the slab
                         # Where two turns lie closer than a line of text, the first drawn keeps its label.
-                        _optional(ax.annotate(format_level(zk, p.units), (float(s(side * rk)), float(s(zk))),
-                                              (3 if inward else -3, 3), textcoords="offset points", fontsize=SMALL,
-                                              ha="left" if inward else "right", va="bottom", zorder=6))
+                        # Inner kerb level above the slab, outer kerb level below its structure.
+                        zt = zk if at_inner else zk - st.depth
+                        _optional(ax.annotate(format_level(zk, p.units), (float(s(side * rk)), float(s(zt))),
+                                              (3 if inward else -3, 3 if at_inner else -2), textcoords="offset points",
+                                              fontsize=SMALL, ha="left" if inward else "right",
+                                              va="bottom" if at_inner else "top", zorder=6))
         if st.cover_soffit is not None:
             ax.add_patch(Rectangle((-s(R), s(st.cover_soffit)), s(2 * R), s(st.slab_depth), fc=PALETTE["slab"],
                                    ec=PALETTE["structure"], zorder=2))
@@ -847,7 +852,7 @@ def cross_section_figure(ev: Evaluation, bearing: float | None = None) -> Figure
                  f"Cross-fall {100 * abs(cf):.1f} % "
                  f"{'falling to the centre' if cf > 0 else 'falling outward' if cf < 0 else '(none)'}.",
                  f"Slab {format_length(st.slab_depth, p.units)}, hanging {format_length(st.hanging_depth, p.units)}.",
-                 "Levels: each kerb of each turn.", "True scale, no vertical exaggeration."]
+                 "Levels: inner kerb above each slab, outer kerb below it.", "True scale, no vertical exaggeration."]
         _note(fig, 150.0, 57.0, _wrap_lines(lines, 70.0, SMALL), linespacing=1.25)
         _declutter(fig)
     return fig
