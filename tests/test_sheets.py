@@ -216,3 +216,35 @@ def test_sheets_are_deterministic():
     a = F.render_all(ev)
     b = F.render_all(ev)
     assert a.keys() == b.keys() and all(a[k] == b[k] for k in a)
+
+
+def test_legends_list_only_what_is_drawn():
+    # demo-metric has neither landings nor transitions (every segment a run, checked
+    # here from its alignment): no legend may offer them.  demo-double has both.
+    for demo, expect in (("demo-metric", False), ("demo-double", True)):
+        ev, _ = _evaluation(demo)
+        kinds = {k for t in ev.helix.threads for k, *_ in t.profile.segments()}
+        assert (kinds > {"run"}) == expect, kinds
+        for make in (F.plan_figure, F.section_figure, F.clearance_figure):
+            with matplotlib.rc_context(F.STYLE):
+                fig = make(ev)
+            labels = [t.get_text() for ax in fig.axes if ax.get_legend() for t in ax.get_legend().get_texts()]
+            assert labels, make.__name__
+            has = any(lab.startswith(("landing", "transition")) for lab in labels)
+            if make is F.clearance_figure:  # its view shows a few metres: only what lies in it
+                assert expect or not has, (demo, labels)
+            else:
+                assert has == expect, (demo, make.__name__, labels)
+
+
+def test_plan_draws_up_and_down_centre_lines_in_different_colours_and_styles():
+    ev, _ = _evaluation("demo-imperial")  # two-way: one lane up, one down
+    with matplotlib.rc_context(F.STYLE):
+        fig = F.plan_figure(ev)
+    legend = fig.axes[0].get_legend()
+    lines = {t.get_text(): h for t, h in zip(legend.get_texts(), legend.legend_handles)}
+    up = next(h for k, h in lines.items() if "traffic up" in k)
+    down = next(h for k, h in lines.items() if "traffic down" in k)
+    # The dash patterns themselves (get_linestyle() says '--' for any custom dash).
+    assert up.get_color() != down.get_color() and up._unscaled_dash_pattern != down._unscaled_dash_pattern
+    assert any("clearance to structure" in k for k in lines)
