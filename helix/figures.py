@@ -383,33 +383,36 @@ def plan_figure(ev: Evaluation) -> Figure:
                     bbox=dict(boxstyle="circle,pad=0.15", fc="white", ec=PALETTE["critical"], lw=0.6))
             tag_lines.append(f"{tag}  bearing {_wcb(b, ev)}: " + ", ".join(e[1] for e in entries))
         # Floor approaches and exits: each lane's aisle centre, with an arrow of travel.
-        drawn_lines: set[tuple] = set()
-        for k, a in enumerate(ev.approaches):
+        # A deck's aisle is an entry to the helix (traffic drives in to climb, or to descend)
+        # and an exit from it: the lowest floor of an up lane only an entry, the top only an
+        # exit, the floors between both (down lanes the other way round).
+        roles: dict[tuple, tuple[np.ndarray, set[str]]] = {}
+        for a in ev.approaches:
             xy = a.line.vertices
-            key2 = tuple(np.round(xy.ravel(), 2))
-            if key2 in drawn_lines:
-                continue
-            drawn_lines.add(key2)
-            ax.plot(s(xy[:, 0]), s(xy[:, 1]), color=PALETTE["structure"], lw=1.0, ls=(0, (1, 1.5)))
             aisle_lane = next((ln for ln in h.threads[a.line.thread].lanes if ln.name == a.line.lane), None)
             t = h.threads[a.line.thread]
-            # Traffic that climbs leaves the floor below (entry) at the start of its storey and
-            # reaches the floor above (exit) at the end; down traffic the other way round.
             is_up = aisle_lane is None or aisle_lane.direction != "down"
-            first = a.line.level == t.levels[0]
-            last = a.line.level == t.levels[-1]
-            side = a.line.side
-            entering = (side == "before") if is_up else (side == "after")
-            if first:
-                entering = is_up
-            elif last:
-                entering = not is_up
+            if a.line.level == t.levels[0]:
+                got = {"entry" if is_up else "exit"}
+            elif a.line.level == t.levels[-1]:
+                got = {"exit" if is_up else "entry"}
+            else:
+                got = {"entry", "exit"}
+            key2 = tuple(np.round(xy.ravel(), 2))
+            roles.setdefault(key2, (xy, set()))[1].update(got)
+        for xy, got in roles.values():
+            ax.plot(s(xy[:, 0]), s(xy[:, 1]), color=PALETTE["structure"], lw=1.0, ls=(0, (1, 1.5)))
             far, near = xy[-1], xy[0]
-            mid = near + 0.55 * (far - near)
-            start, end = ((far, mid) if entering else (mid, far))
-            col = PALETTE["lane"] if entering else PALETTE["thread2"]
-            ax.add_patch(FancyArrowPatch(tuple(s(start)), tuple(s(end)), arrowstyle="-|>", mutation_scale=11,
-                                         color=col, lw=1.4))
+            d = far - near
+            length = float(np.hypot(*d)) or 1.0
+            normal = np.array([-d[1], d[0]]) / length * 1.4 * paper / s.factor
+            for role in sorted(got):
+                off = normal * (1 if role == "entry" else -1) if len(got) > 1 else 0.0 * normal
+                mid = near + 0.55 * d + off
+                start, end = ((far + off, mid) if role == "entry" else (mid, far + off))
+                col = PALETTE["lane"] if role == "entry" else PALETTE["thread2"]
+                ax.add_patch(FancyArrowPatch(tuple(s(start)), tuple(s(end)), arrowstyle="-|>", mutation_scale=11,
+                                             color=col, lw=1.4))
         if ev.approaches:
             handles.append(Line2D([], [], color=PALETTE["structure"], lw=1.0, ls=(0, (1, 1.5)),
                                   label="floor aisle (approach or exit, centre)"))
