@@ -681,9 +681,9 @@ def section_figure(ev: Evaluation) -> Figure:
                     storey = ev.headroom_at.storey if ev.headroom_at is not None else ""
                     xl_ = ax.get_xlim()  # the label in the free space at the top of the panel
                     frac = (x - xl_[0]) / (xl_[1] - xl_[0])
-                    ax.annotate(f"least clear headroom, {storey}, at {format_level(z0, p.units)}:\n"
-                                f"{format_length(c_min, p.units)} on this line, {format_length(hp.clear, p.units)} "
-                                f"at r = {format_length(hp.radius, p.units)}\nunder {hp.above}",
+                    ax.annotate(f"least clear headroom: {storey}, under {hp.above}\n"
+                                f"{format_length(c_min, p.units)} on this line (surface {format_level(z0, p.units)}); "
+                                f"least {format_length(hp.clear, p.units)} at r = {format_length(hp.radius, p.units)}",
                                 (x, float(s(z0 + c_min))), (max(frac, 0.01), 0.97), textcoords="axes fraction",
                                 fontsize=SMALL, color=PALETTE["critical"], va="top", ha="left", zorder=9,
                                 arrowprops=dict(arrowstyle="-", color=PALETTE["critical"], lw=0.6),
