@@ -129,6 +129,7 @@ def sections() -> dict[str, Section]:
                 "{use: ..., override: {...}}.", default="conservative-default"),
             Key("design", ref("design"), "The helix, fixed or as search ranges ('helix design').",
                 required=True),
+            Key("drawing", ref("drawing"), "Title-block text of the drawing sheets.", default="blank fields"),
             Key("comparison", ref("comparison"), "What the comparison of options assumes: headway, "
                 "bays to empty, the standard bay and aisle, the parapet.", default="sourced defaults"),
         )),
@@ -158,6 +159,8 @@ def sections() -> dict[str, Section]:
             Key("width", LENGTH, "Along plan x.", required=True),
             Key("depth", LENGTH, "Along plan y.", required=True),
             Key("margin", LENGTH, "Kept clear inside the footprint edges.", default="0"),
+            Key("grid", ref("site_grid"), "Where the plot lies in the site grid (setting-out, plan "
+                "bearings, north point).", default="plot coordinates, north = +y"),
         )),
         "design": Section("The helix: fixed values, or ranges and choices for 'helix design'.", (
             Key("layouts", list_of(enum(SEARCH_LAYOUTS), 1), "Layouts to search (instead of 'layout')."),
@@ -229,6 +232,21 @@ def sections() -> dict[str, Section]:
         "bay": Section("A standard parking bay.", (
             Key("width", LENGTH, "Bay width.", default="2.4 m"),
             Key("length", LENGTH, "Bay length.", default="4.8 m"),
+        )),
+        "site_grid": Section("The plot in the site grid: eastings, northings, bearings clockwise from "
+                             "grid north.", (
+            Key("origin", list_of(LENGTH, 2, 2), "[easting, northing] of the plot's point (0, 0).",
+                default="[0, 0]"),
+            Key("rotation", ANGLE, "Bearing of the plot's +y axis, clockwise from grid north.",
+                default="0 deg"),
+        )),
+        "drawing": Section("Title-block text of the drawing sheets (blank: a ruled line to fill by hand).", (
+            Key("number", text(MAX_NAME), "Drawing-number prefix; each sheet appends -01, -02 ..."),
+            Key("revision", text(MAX_NAME), "Revision, also in the report's page header."),
+            Key("date", any_of(text(MAX_NAME), {"type": "number"}), "Date of issue as written, e.g. "
+                "2026-12-01 (never the clock: outputs stay deterministic)."),
+            Key("drawn", text(MAX_NAME), "Drawn by."),
+            Key("checked", text(MAX_NAME), "Checked by."),
         )),
         "rules": Section("A rule set with changes of its values.", (
             Key("use", text(MAX_TEXT), "The rule set: a bundled name or a path.", required=True),

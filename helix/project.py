@@ -21,9 +21,10 @@ from .assumptions import ComparisonAssumptions
 from .errors import MAX_LENGTH, MAX_NAME, InputError, InvalidValue, Node, finite, require
 from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
+from .site_grid import SiteGrid
 from .vehicle import Vehicle, load_vehicle
 
-__all__ = ["Level", "Structure", "Site", "DesignSpec", "SearchSpace", "Project", "load_project",
+__all__ = ["Level", "Structure", "Site", "Drawing", "DesignSpec", "SearchSpace", "Project", "load_project",
            "DEFAULT_RULE_SET", "DEFAULT_VEHICLE", "MAX_LEVELS"]
 
 #: Most levels one helix may serve: the tallest car parks have a few dozen; the limit
@@ -87,8 +88,10 @@ class Site:
     width: float  # along plan x
     depth: float  # along plan y
     margin: float = 0.0  # kept clear inside the footprint edges
+    grid: SiteGrid = SiteGrid()  # the survey grid the setting-out is given in
 
     def __post_init__(self):
+        require(isinstance(self.grid, SiteGrid), self, "grid", self.grid, "a SiteGrid")
         for key in ("width", "depth"):
             require(finite(getattr(self, key), 0, MAX_LENGTH, open_low=True), self, key, getattr(self, key),
                     "a positive length in metres")
@@ -98,6 +101,27 @@ class Site:
     @property
     def usable(self) -> tuple[float, float]:
         return (self.width - 2 * self.margin, self.depth - 2 * self.margin)
+
+
+@dataclass(frozen=True)
+class Drawing:
+    """Title-block fields of the drawing sheets, as written (blank: filled in by hand).
+    ``number`` is the drawing-number prefix; each sheet appends its own two digits."""
+
+    number: str = ""
+    revision: str = ""
+    date: str = ""
+    drawn: str = ""
+    checked: str = ""
+
+    def __post_init__(self):
+        for key in DRAWING_KEYS:
+            value = getattr(self, key)
+            require(isinstance(value, str) and len(value) <= MAX_NAME, self, key, value,
+                    f"text of at most {MAX_NAME} characters")
+
+
+DRAWING_KEYS = ("number", "revision", "date", "drawn", "checked")
 
 
 @dataclass(frozen=True)
@@ -210,8 +234,10 @@ class Project:
     design: DesignSpec
     search: SearchSpace | None = None
     comparison: ComparisonAssumptions = ComparisonAssumptions()
+    drawing: Drawing = Drawing()
 
     def __post_init__(self):
+        require(isinstance(self.drawing, Drawing), self, "drawing", self.drawing, "a Drawing")
         require(isinstance(self.name, str) and 0 < len(self.name.strip()) <= MAX_NAME, self, "name", self.name,
                 f"a name of 1 to {MAX_NAME} characters")
         require(self.units in ("metric", "imperial"), self, "units", self.units, "metric or imperial")
@@ -250,7 +276,7 @@ class Project:
 
 
 _TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design",
-             "comparison")
+             "comparison", "drawing")
 
 
 def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
@@ -324,8 +350,50 @@ def _site(node: Node) -> Site:
     if 2 * margin >= min(width, depth):
         raise margin_node.error(f"got {margin_node.data!r}; expected a margin smaller than half the "  # type: ignore[union-attr]
                                 f"footprint ({min(width, depth) / 2:.2f} m)")
+    grid = _site_grid(node.child("grid", required=False))
     node.done(section="site")
-    return Site(width, depth, margin)
+    return Site(width, depth, margin, grid)
+
+
+def _site_grid(node: Node | None) -> SiteGrid:
+    """``site.grid: {origin: [easting, northing], rotation: angle}``: the grid coordinates
+    of the plot's origin and the bearing of the plot's +y axis clockwise from grid north."""
+    if node is None:
+        return SiteGrid()
+    node.require_mapping()
+    origin_node = node.child("origin", required=False)
+    origin = (0.0, 0.0)
+    if origin_node is not None:
+        items = list(origin_node.items())
+        if len(items) != 2:
+            raise origin_node.error(f"got {len(items)} value(s); expected [easting, northing], "
+                                    "e.g. [500000 m, 180000 m]")
+        origin = (items[0].length(maximum=1e8), items[1].length(maximum=1e8))
+    rot_node = node.child("rotation", required=False)
+    rotation = rot_node.angle() if rot_node is not None else 0.0
+    node.done(section="site_grid")
+    return SiteGrid(origin, rotation)
+
+
+def _drawing(node: Node | None) -> Drawing:
+    """The optional ``drawing:`` section: title-block text, each field optional."""
+    if node is None:
+        return Drawing()
+    node.require_mapping()
+    values = {}
+    fields = (("number", node.child("number", required=False)), ("revision", node.child("revision", required=False)),
+              ("date", node.child("date", required=False)), ("drawn", node.child("drawn", required=False)),
+              ("checked", node.child("checked", required=False)))
+    for key, child in fields:
+        if child is None:
+            continue
+        data = child.data
+        if isinstance(data, (int, float)) and not isinstance(data, bool) or hasattr(data, "isoformat"):
+            data = data.isoformat() if hasattr(data, "isoformat") else str(data)  # YAML reads 2026-12-01 as a date
+            child = Node(data, child.file, child.path)
+        values[key] = child.text(max_chars=MAX_NAME).strip()
+    node.done(section="drawing")
+    return Drawing(**values)
 
 
 def _design(node: Node, traffic: str, storeys: int, rules: RuleSet,
@@ -538,7 +606,8 @@ def _rules(node: Node | None, project_dir: Path) -> RuleSet:
 
 #: Where a field of each dataclass is written in a project file, for the rare value
 #: the loader lets through and the dataclass refuses (see :func:`helix.errors.require`).
-_KEY_OF = {"Project": "", "Structure": "structure.", "Site": "site.", "Level": "levels", "Vehicle": "vehicle.",
+_KEY_OF = {"Project": "", "Structure": "structure.", "Site": "site.", "SiteGrid": "site.grid.",
+           "Drawing": "drawing.", "Level": "levels", "Vehicle": "vehicle.",
            "DesignSpec": "design.", "Limit": "rules", "GradientLimit": "rules.gradient",
            "ComparisonAssumptions": "comparison."}
 _DESIGN_KEYS = {"lane_widths": "lane_width", "transition_length": "transition.length",
@@ -657,6 +726,7 @@ def _load_project(path: Path, source: bytes | None = None, base_dir: Path | None
     design = _pin_bearings(root.child("levels"), levels, design, check_turns=search.fixed or
                            (search.turns_choices is None and not search.turns_free))
     comparison = _comparison(root.child("comparison", required=False))
+    drawing = _drawing(root.child("drawing", required=False))
     root.done(section="top")
     if structure.cover_soffit is not None and structure.cover_soffit <= levels[-1].level:
         raise InputError(shown, "structure.cover_soffit",
@@ -664,7 +734,7 @@ def _load_project(path: Path, source: bytes | None = None, base_dir: Path | None
                          f"({levels[-1].level:.3f} m)")
     project = Project(name=name, notes=notes, file=shown, units=units, levels=levels,
                       structure=structure, site=site, traffic=traffic, vehicle=vehicle,
-                      rules=rules, design=design, search=search, comparison=comparison)
+                      rules=rules, design=design, search=search, comparison=comparison, drawing=drawing)
     _check_extent(project)
     return project
 

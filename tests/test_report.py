@@ -140,7 +140,7 @@ def test_imperial_report_is_in_feet_and_inches(tmp_path):
     assert main(["check", IMPERIAL, "-o", str(out)]) == 0
     md = (out / "report.md").read_text()
     assert "36'-0\"" in md and "(1:" in md
-    head = (out / "setting_out.csv").read_text().splitlines()[0]
+    head = (out / "setting_out.csv").read_text().splitlines()[1]  # after the comment line
     assert "chainage_ft" in head and "level_centre_ftin" in head
 
 
