@@ -10,9 +10,10 @@ import math
 from typing import Any
 
 from .evaluate import Evaluation
-from .units import format_gradient, format_length
+from .checks import TITLES, check_title, in_words
+from .units import format_duration, format_gradient, format_length, format_number, format_speed
 
-__all__ = ["to_dict", "to_json", "check_table", "CAUTION"]
+__all__ = ["to_dict", "to_json", "check_table", "format_check", "constraint_words", "CAUTION"]
 
 CAUTION = ("helix is a design aid. Results must be verified by a qualified professional "
            "against the codes and standards in force where the car park is built; local rules "
@@ -156,15 +157,33 @@ def to_json(data: dict) -> str:
     return json.dumps(data, indent=2, sort_keys=False, allow_nan=False) + "\n"
 
 
-def _fmt(c, x, units: str) -> str:
+def format_check(c, x: float | None, units: str) -> str:
+    """A check's value, limit or margin in the project's units, by the one formatter of
+    its quantity (every table of the terminal, the PDF and the Markdown uses this)."""
     if x is None:
         return "-"
-    x = round(x, 9) + 0.0  # no "-0.000" for a value exactly at its limit
     if c.quantity == "gradient":
         return format_gradient(x, units)
     if c.quantity == "length":
-        return format_length(x, units) if units == "imperial" else f"{x:.3f} m"
-    return f"{x:.3f}"
+        return format_length(x, units)
+    return format_number(x)
+
+
+def format_limit(c, units: str) -> str:
+    """``'<= 12.00 %'``, ``'>= 2.100 m'`` or ``'-'`` where the rule set sets none."""
+    if c.limit is None:
+        return "-"
+    return ("<= " if c.sense == "max" else ">= ") + format_check(c, c.limit, units)
+
+
+#: Words for the search's constraints that are not checks of their own.
+_CONSTRAINTS = {"target_gradient": "Target gradient of the design", "centre_radius": "Centre radius range",
+                "turns_per_storey": "Turns per storey", "layout": "Layout", "several": "Several constraints"}
+
+
+def constraint_words(key: str) -> str:
+    """A search constraint (a check id or one of the search's own keys) in words."""
+    return TITLES.get(key) or _CONSTRAINTS.get(key) or check_title(key)
 
 
 def _table(rows: list[list[str]], header: list[str]) -> str:
@@ -196,22 +215,21 @@ def check_table(ev: Evaluation) -> str:
     out.append("")
     rows = []
     for c in ev.checks:
-        margin = c.margin
-        rows.append([c.status, c.id, _fmt(c, c.value, u),
-                     ("<= " if c.sense == "max" else ">= ") + _fmt(c, c.limit, u) if c.limit is not None else "-",
-                     _fmt(c, margin, u) if margin is not None else "-", c.where])
+        rows.append([c.status, c.title, format_check(c, c.value, u), format_limit(c, u),
+                     format_check(c, c.margin, u), c.where])
     out.append(_table(rows, ["status", "check", "value", "limit", "margin", "where"]))
     out.append("")
     out.append("Sources of the limits:")
     for c in ev.checks:
-        out.append(f"  {c.id}: {c.source}")
+        out.append(f"  {c.title}: {c.source}")
     out.append("")
-    fails = [c.id for c in ev.checks if not c.ok]
+    fails = [c.title for c in ev.checks if not c.ok]
     out.append("RESULT: all checks pass" if not fails else f"RESULT: {len(fails)} check(s) fail: {', '.join(fails)}")
     for c in ev.checks:
         if c.warns:
-            out.append(f"WARNING: {c.id}: {c.warning or c.note}"
-                       + (f" ({_fmt(c, c.value, u)}, practice value {_fmt(c, c.limit, u)})" if c.advisory else ""))
+            out.append(f"WARNING: {c.title}: {c.warning or c.note}"
+                       + (f" ({format_check(c, c.value, u)}, practice value {format_check(c, c.limit, u)})"
+                          if c.advisory else ""))
     out.append("CAUTION: " + CAUTION)
     return "\n".join(out) + "\n"
 
@@ -239,13 +257,6 @@ def option_dict(option) -> dict[str, Any]:
     })
     data["ok"] = bool(option.feasible and data.get("ok", False))
     return data
-
-
-def format_speed(metres_per_second: float, units: str) -> str:
-    """``'15 km/h'`` or ``'9 mph'``."""
-    if units == "imperial":
-        return f"{metres_per_second * 3600 / 1609.344:.0f} mph"
-    return f"{metres_per_second * 3.6:.0f} km/h"
 
 
 def turns_text(turns) -> str:
@@ -280,9 +291,9 @@ def format_shortfall(item: dict, units: str) -> str:
         return ""
     key = item.get("constraint", "")
     if key.startswith("gradient") or key in ("target_gradient", "cross_fall"):
-        return f"{100 * short:.2f} percentage points"
+        return f"{format_number(100 * short, 2)} percentage points"
     if key == "side_friction":
-        return f"{short:.3f}"
+        return format_number(short)
     return format_length(short, units)
 
 
@@ -331,7 +342,7 @@ def design_table(result) -> str:
         h = ev.helix
         first = [s for s in ev.storeys if s.thread == h.threads[0].name]
         head = ev.headroom.clear if ev.headroom else None
-        fails = [c.id for c in ev.checks if not c.ok]
+        fails = [c.title.lower() for c in ev.checks if not c.ok]
         rows.append([
             str(rank), LAYOUT_TITLES[o.layout], str(len(h.threads)), turns_text(s.turns for s in first),
             format_length(h.threads[0].centre_radius, u),
@@ -341,9 +352,9 @@ def design_table(result) -> str:
             format_gradient(ev.max_gradient("outer kerb"), u),
             format_length(head, u) if head is not None else "-",
             format_length(sum(s.length_centre for s in first) / len(first), u),
-            f"{drive_time(ev):.0f} s",
+            format_duration(drive_time(ev)),
             "pass" if o.feasible and ev.ok else "FAIL",
-            o.binding if o.feasible else ("fails " + ", ".join(fails) if fails else "infeasible"),
+            in_words(o.binding) if o.feasible else ("fails " + ", ".join(fails) if fails else "infeasible"),
         ])
     out.append(_table(rows, ["#", "layout", "threads", "turns", "centre radius", "lane", "diameter",
                              "grade inner", "grade centre", "grade outer", "headroom", "drive/storey",
@@ -360,7 +371,7 @@ def design_table(result) -> str:
         for item in o.explanation:
             short = format_shortfall(item, u)
             by = f" short by {short}" if short else ""
-            out.append(f"  - {item['constraint']}{by}: {item.get('change', '')}")
+            out.append(f"  - {constraint_words(item['constraint'])}{by}: {in_words(item.get('change', ''))}")
             if item.get("verified_result"):
                 out.append(f"      {item['verified_result']}")
         out.append("")
@@ -370,7 +381,7 @@ def design_table(result) -> str:
         best = result.options[result.best]
         out.append(f"RESULT: best is {LAYOUT_TITLES[best.layout]} "
                    f"(centre radius {format_length(best.evaluation.helix.threads[0].centre_radius, u)}, "
-                   f"binding: {best.binding})")
+                   f"binding: {in_words(best.binding)})")
     out.append(f"Pareto set (diameter, steepest inner gradient, drive per storey): {len(result.pareto)} designs")
     out.append("CAUTION: " + CAUTION)
     return "\n".join(out) + "\n"
