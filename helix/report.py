@@ -59,6 +59,7 @@ _CELL = 7.5  # points: tables (2.65 mm)
 _FURNITURE = 7.5  # points: header and footer
 _LINESPACING = 1.25
 _PAD_MM = 0.9  # above and below a table row's text
+_FAMILY = str(STYLE["font.family"])
 _KEEP = 3  # a table split across pages leaves at least this many rows on each side
 
 #: What each figure shows and what to read from it, by figure name (a figure whose name
@@ -232,8 +233,8 @@ def _comparison(result) -> list[Block]:
     for o in result.options:
         if not o.feasible:
             items = [[constraint_words(e["constraint"]), format_shortfall(e, u),
-                      in_words(e.get("change", "")) + (f" ({e['verified_result']})" if e.get("verified_result")
-                                                       else "")]
+                      in_words(e.get("change", "") + (f" ({e['verified_result']})" if e.get("verified_result")
+                                                      else ""))]
                      for e in o.explanation]
             blocks += [("h2", f"Why the {LAYOUT_TITLES[o.layout]} does not work"),
                        ("table", Table(f"Changes that would make the {LAYOUT_TITLES[o.layout]} work",
@@ -283,7 +284,7 @@ def _checks(ev: Evaluation, comparisons: list[Evaluation]) -> list[Block]:
     return blocks
 
 
-def _setting_out(ev: Evaluation, spacing: float, rows_max: int = 34) -> list[Block]:
+def _setting_out(ev: Evaluation, spacing: float, rows_max: int = 30) -> list[Block]:
     u = ev.project.units
     data = stations(ev, spacing)
     rows = []
@@ -343,7 +344,7 @@ def _measurer():
 
 @lru_cache(maxsize=20000)
 def _width_pt(text: str, size: float, bold: bool) -> float:
-    prop = FontProperties(family=STYLE["font.family"], size=size, weight="bold" if bold else "normal")
+    prop = FontProperties(family=_FAMILY, size=size, weight="bold" if bold else "normal")
     w, _, _ = _measurer().get_text_width_height_descent(text, prop, ismath=False)
     return float(w)
 
@@ -380,7 +381,7 @@ def _block_mm(size: float, lines: int) -> float:
     fig = Figure(figsize=(4, 4), dpi=72)
     canvas = FigureCanvasAgg(fig)
     t = fig.text(0, 0.5, "\n".join(["Hg"] * lines), fontsize=size, linespacing=_LINESPACING,
-                 family=STYLE["font.family"])
+                 family=_FAMILY)
     return float(t.get_window_extent(canvas.get_renderer()).height) * _PT
 
 
@@ -434,6 +435,7 @@ class Page:
     own: bool
     caption: str = ""
     tables: list[tuple[int, int, int]] = field(default_factory=list)
+    furniture: list[Artist] = field(default_factory=list)  # header and footer, while furnished
 
 
 class _Layout:
@@ -522,7 +524,8 @@ class _Layout:
         rows = [wrap(r, False) for r in t.rows]
         head_h = height(head)
         heights = [height(r) for r in rows]
-        cap_h = _block_mm(_BODY, 1) + 1.2
+        caption = lambda more: _wrap(t.caption + more, self.width, _BODY, True)
+        cap_h = _block_mm(_BODY, len(caption(" (continued)"))) + 1.2
         full = self.bottom - self.top - cap_h - head_h
         first = self.room() - cap_h - head_h if self.page is not None else full
         for k, chunk in enumerate(split_rows(heights, first, full)):
@@ -532,7 +535,7 @@ class _Layout:
                 continue
             assert self.page is not None
             more = " (continued)" if chunk[0] > 0 else ""
-            self._text(self.left, self.y, t.caption + more, fontsize=_BODY, weight="bold", va="top")
+            self._text(self.left, self.y, "\n".join(caption(more)), fontsize=_BODY, weight="bold", va="top")
             self.y += cap_h
             self._stripe(self.y, head_h, "#D9E3EE")
             self._row(xs, head, head_h, True)
@@ -588,9 +591,9 @@ def _furnish(page: Page, number: int, count: int, header: str) -> list[Artist]:
     w, h = fig.get_size_inches() * 25.4
     fx = lambda x: x / w
     fy = lambda y: 1 - y / h
-    kw = dict(fontsize=_FURNITURE, color="#444444", linespacing=_LINESPACING, family=STYLE["font.family"])
+    kw: dict[str, Any] = dict(fontsize=_FURNITURE, color="#444444", linespacing=_LINESPACING, family=_FAMILY)
     right = _width_pt(CAUTION_SHORT, _FURNITURE, False) * _PT
-    arts = [fig.text(fx(w - _MARGIN_MM), fy(HEADER_MM / 2), CAUTION_SHORT, ha="right", va="center", **kw),
+    arts: list[Artist] = [fig.text(fx(w - _MARGIN_MM), fy(HEADER_MM / 2), CAUTION_SHORT, ha="right", va="center", **kw),
             fig.text(fx(_MARGIN_MM), fy(HEADER_MM / 2), _fit(header, w - 2 * _MARGIN_MM - right - 8, _FURNITURE),
                      ha="left", va="center", **kw)]
     pages = f"page {number} of {count}"
@@ -614,17 +617,20 @@ def _pages(ev: Evaluation, doc: list[Block], figures: dict) -> Iterator[Page]:
     pages = _layout(doc, figures)
     header = _header(ev.project)
     for n, page in enumerate(pages, 1):
-        arts = _furnish(page, n, len(pages), header)
+        page.furniture = _furnish(page, n, len(pages), header)
         try:
             yield page
         finally:
-            for a in arts:
+            for a in page.furniture:
                 a.remove()
+            page.furniture = []
+            if page.own:
+                page.fig.clear()
 
 
 #: The report's own rc settings: the figures' style with TrueType text (Type 42), so
 #: the PDF's text can be searched and copied.
-PDF_STYLE = {**STYLE, "pdf.fonttype": 42, "ps.fonttype": 42}
+PDF_STYLE: Any = {**STYLE, "pdf.fonttype": 42, "ps.fonttype": 42}
 
 
 def _pdf(ev: Evaluation, doc: list[Block], figures: dict, title: str) -> bytes:

@@ -373,7 +373,7 @@ def design_table(result) -> str:
             by = f" short by {short}" if short else ""
             out.append(f"  - {constraint_words(item['constraint'])}{by}: {in_words(item.get('change', ''))}")
             if item.get("verified_result"):
-                out.append(f"      {item['verified_result']}")
+                out.append(f"      {in_words(item['verified_result'])}")
         out.append("")
     if result.best is None:
         out.append("RESULT: no layout passes every check; see the changes above")
