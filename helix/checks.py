@@ -248,7 +248,7 @@ def kerb_radius_checks(project: Project, helix: Helix) -> list[Check]:
     if lim is not None and lim.preferred is not None and lane_out.outer_radius < lim.preferred:
         note = f"below the preferred minimum of {format_length(lim.preferred, project.units)}"
     where = f"{t_out.name}, {lane_out.name}"
-    if len(lanes) > 1:  # say which kerb: a two-way lane's outer kerb is not the carriageway's
+    if lane_out.outer_radius < helix.outer_radius - 1e-9:  # say which kerb: not the carriageway's
         u = project.units
         outer_t, outer_lane = max(lanes, key=lambda tl: tl[1].outer_radius)
         where = (f"{t_out.name}: the outer kerb of the {lane_out.name}"

@@ -32,7 +32,7 @@ from .checks import in_words
 from .evaluate import Evaluation
 from .figures import A4_LANDSCAPE, FIGURES, PALETTE, STYLE
 from .results import (CAUTION, constraint_words, drive_time, format_check, format_limit, format_shortfall,
-                      searched_text, turns_text)
+                      lane_kerbs_text, searched_text, turns_text)
 from .setting_out import stations
 from .units import format_angle, format_duration, format_gradient, format_length, format_level
 
@@ -133,17 +133,14 @@ def _revision(project) -> str | None:
 
 
 def _kerb_rows(ev: Evaluation) -> list[list[str]]:
-    """Kerb radii: of the carriageway, and of each lane where there are several, so a
-    lane's outer kerb (checked on its own) is never mistaken for the carriageway's."""
+    """Kerb radii: of the carriageway, and of each lane where they differ, so a lane's
+    outer kerb (checked on its own) is never mistaken for the carriageway's."""
     h, u = ev.helix, ev.project.units
-    lanes = [(t, ln) for t in h.threads for ln in t.lanes]
     rows = [["Inner / outer kerb radius of the carriageway",
              f"{format_length(h.inner_radius, u)} / {format_length(h.outer_radius, u)}"]]
-    if len(lanes) > 1:
-        rows.append(["Kerb radii of each lane (inner kerb to outer kerb)",
-                     "; ".join(f"{(t.name + ' ') if len(h.threads) > 1 else ''}{ln.name}: "
-                               f"{format_length(ln.inner_radius, u)} to {format_length(ln.outer_radius, u)}"
-                               for t, ln in lanes)])
+    lanes = lane_kerbs_text(ev)
+    if lanes:
+        rows.append(["Kerb radii of each lane (inner kerb to outer kerb)", lanes])
     return rows
 
 
@@ -335,10 +332,13 @@ def _document(ev, option, result, comparisons, spacing) -> list[Block]:
 # PDF: measured text, tables with rows that grow with their text
 
 
+_MEASURE_DPI = 720  # fine enough that hinting does not round glyph advances up to whole pixels
+
+
 @lru_cache(maxsize=1)
 def _measurer():
-    """An Agg renderer at 72 dpi (1 px = 1 pt) to measure text; made on first use."""
-    fig = Figure(dpi=72)
+    """An Agg renderer to measure text; made on first use."""
+    fig = Figure(dpi=_MEASURE_DPI)
     return FigureCanvasAgg(fig).get_renderer()
 
 
@@ -346,12 +346,12 @@ def _measurer():
 def _width_pt(text: str, size: float, bold: bool) -> float:
     prop = FontProperties(family=_FAMILY, size=size, weight="bold" if bold else "normal")
     w, _, _ = _measurer().get_text_width_height_descent(text, prop, ismath=False)
-    return float(w)
+    return float(w) * 72 / _MEASURE_DPI
 
 
 def _wrap(text: str, width_mm: float, size: float, bold: bool = False) -> list[str]:
     """Greedy word wrap by the measured width of the text in the report's font."""
-    limit = width_mm / _PT
+    limit = 0.97 * width_mm / _PT  # a little spare: screen renderers hint glyphs a little wider
     lines: list[str] = []
     for para in str(text).split("\n"):
         line = ""
@@ -378,11 +378,11 @@ def _wrap(text: str, width_mm: float, size: float, bold: bool = False) -> list[s
 @lru_cache(maxsize=64)
 def _block_mm(size: float, lines: int) -> float:
     """Height of a block of ``lines`` lines as matplotlib lays it out (measured)."""
-    fig = Figure(figsize=(4, 4), dpi=72)
+    fig = Figure(figsize=(4, 4), dpi=_MEASURE_DPI)
     canvas = FigureCanvasAgg(fig)
     t = fig.text(0, 0.5, "\n".join(["Hg"] * lines), fontsize=size, linespacing=_LINESPACING,
                  family=_FAMILY)
-    return float(t.get_window_extent(canvas.get_renderer()).height) * _PT
+    return float(t.get_window_extent(canvas.get_renderer()).height) * 72 / _MEASURE_DPI * _PT
 
 
 def split_rows(heights: Sequence[float], first: float, rest: float, keep: int = _KEEP) -> list[list[int]]:

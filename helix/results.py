@@ -192,6 +192,17 @@ def _table(rows: list[list[str]], header: list[str]) -> str:
     return "\n".join([line(header), line(["-" * w for w in widths])] + [line(r) for r in rows])
 
 
+def lane_kerbs_text(ev: Evaluation) -> str:
+    """Each lane's inner and outer kerb radius where lanes differ (a two-way helix), so a
+    lane's outer kerb is never mistaken for the carriageway's; ``''`` where they do not."""
+    h, u = ev.helix, ev.project.units
+    lanes = [(t, ln) for t in h.threads for ln in t.lanes]
+    if len({(round(ln.inner_radius, 6), round(ln.outer_radius, 6)) for _, ln in lanes}) < 2:
+        return ""
+    return "; ".join(f"{(t.name + ' ') if len(h.threads) > 1 else ''}{ln.name}: "
+                     f"{format_length(ln.inner_radius, u)} to {format_length(ln.outer_radius, u)}" for t, ln in lanes)
+
+
 def check_table(ev: Evaluation) -> str:
     """The readable report for the terminal: geometry, storeys, checks, cautions."""
     p, h, u = ev.project, ev.helix, ev.project.units
@@ -202,6 +213,9 @@ def check_table(ev: Evaluation) -> str:
                     format_length(t.outer_radius, u),
                     ", ".join(format_length(ln.width, u) for ln in t.lanes)])
     out.append(_table(geo, ["thread", "traffic", "inner kerb", "centre line", "outer kerb", "lane widths"]))
+    lanes = lane_kerbs_text(ev)
+    if lanes:
+        out.append(f"kerb radii of each lane (inner kerb to outer kerb): {lanes}")
     out.append(f"overall diameter with structure: {format_length(h.overall_diameter, u)}")
     out.append("")
     rows = []

@@ -180,6 +180,8 @@ def test_the_two_outer_kerb_radii_are_named(demos):
     # outer kerb at 36'-0" + 9" + 12'-0" = 48'-9" (worked by hand).
     assert "inner lane: 23'-3\" to 35'-3\"" in md and "outer lane: 36'-9\" to 48'-9\"" in md
     assert "the outer kerb of the inner lane" in md and "lies at 48'-9\"" in md
+    assert "inner lane: 23'-3\" to 35'-3\"; outer lane: 36'-9\" to 48'-9\"" in data["terminal"]
+    assert "the outer kerb of the inner lane" in data["terminal"]
 
 
 # -- tables ----------------------------------------------------------------------
