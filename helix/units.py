@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 import re
-from decimal import ROUND_HALF_UP, Decimal
+from decimal import ROUND_HALF_UP, Context, Decimal
 
 __all__ = [
     "UnitError",
@@ -252,6 +252,9 @@ def parse_speed(value: object) -> float:
 # Formatting
 
 
+_EXACT = Context(prec=400, rounding=ROUND_HALF_UP)  # room for every digit of any float
+
+
 def fixed(x: float, places: int) -> str:
     """``x`` with ``places`` decimals, halves rounded away from zero.
 
@@ -261,10 +264,13 @@ def fixed(x: float, places: int) -> str:
     (5.305 -> 5.31) rather than to the nearest even digit or the binary accident of
     ``'%.2f'``.  A result of zero never prints as ``-0.00``.
 
-    >>> fixed(5.305, 2), fixed(5.30499999999, 2), fixed(-0.0004, 3), fixed(2.5, 0)
-    ('5.31', '5.31', '0.000', '3')
+    >>> fixed(5.305, 2), fixed(5.30499999999, 2), fixed(-0.0004, 3), fixed(2.5, 0), fixed(float("inf"), 1)
+    ('5.31', '5.31', '0.000', '3', 'inf')
     """
-    q = Decimal(repr(round(float(x), 9))).quantize(Decimal(1).scaleb(-places), rounding=ROUND_HALF_UP)
+    x = float(x)
+    if not math.isfinite(x):  # as '%f' prints it; never raised on, whatever reaches a table
+        return f"{x:.{places}f}"
+    q = Decimal(repr(round(x, 9))).quantize(Decimal(1).scaleb(-places), context=_EXACT)
     if q == 0:
         q = abs(q)
     return f"{q:f}"
