@@ -349,13 +349,22 @@ def _width_pt(text: str, size: float, bold: bool) -> float:
     return float(w) * 72 / _MEASURE_DPI
 
 
+_UNITS = frozenset({"%", "%,", "%)", "%;", "m", "m,", "m)", "m;", "mm", "s", "mph", "km/h", "deg", "deg,"})
+
+
 def _wrap(text: str, width_mm: float, size: float, bold: bool = False) -> list[str]:
     """Greedy word wrap by the measured width of the text in the report's font."""
     limit = 0.97 * width_mm / _PT  # a little spare: screen renderers hint glyphs a little wider
     lines: list[str] = []
     for para in str(text).split("\n"):
         line = ""
-        for word in para.split():
+        words: list[str] = []
+        for word in para.split():  # a number and its unit stay on one line
+            if words and (word in _UNITS or word.startswith("(1:")):
+                words[-1] += " " + word
+            else:
+                words.append(word)
+        for word in words:
             while _width_pt(word, size, bold) > limit and len(word) > 1:  # a word wider than the column
                 k = len(word)
                 while k > 1 and _width_pt(word[:k], size, bold) > limit:
