@@ -284,20 +284,24 @@ def _checks(ev: Evaluation, comparisons: list[Evaluation]) -> list[Block]:
 def _setting_out(ev: Evaluation, spacing: float, rows_max: int = 30) -> list[Block]:
     u = ev.project.units
     data = stations(ev, spacing)
+    grid = bool(data) and "easting_m" in data[0]  # setting-out in the site grid, bearings from grid north
+    xk, yk = ("easting_m", "northing_m") if grid else ("x_m", "y_m")
     rows = []
     for r in data[:rows_max]:
         rows.append([r["thread"], f"{r['station']}", format_length(r["chainage_m"], u),
-                     format_angle(r["bearing_deg"]), format_length(r["x_m"], u), format_length(r["y_m"], u),
+                     format_angle(r["bearing_deg"]), format_length(r[xk], u), format_length(r[yk], u),
                      format_level(r["level_inner_kerb_m"], u), format_level(r["level_centre_m"], u),
                      format_level(r["level_outer_kerb_m"], u), format_gradient(r["grade_centre_pct"] / 100, u),
                      r["segment"]])
+    frame = ("Bearings clockwise from grid north, coordinates in the site grid" if grid
+             else "Bearings anticlockwise from +x")
     return [("h1", "Setting-out excerpt"),
             ("p", f"The first {min(rows_max, len(data))} of {len(data)} stations; the full table is in "
-                  "setting_out.csv. Bearings anticlockwise from +x; levels at the kerbs include the cross-fall."),
+                  f"setting_out.csv. {frame}; levels at the kerbs include the cross-fall."),
             ("table", Table("Setting-out stations (excerpt)",
-                            ["thread", "stn", "chainage", "bearing", "x", "y", "inner kerb", "centre", "outer kerb",
-                             "grade", "segment"], rows,
-                            [0.1, 0.04, 0.09, 0.09, 0.08, 0.08, 0.09, 0.09, 0.09, 0.13, 0.12]))]
+                            ["thread", "stn", "chainage", "bearing", "easting" if grid else "x",
+                             "northing" if grid else "y", "inner kerb", "centre", "outer kerb", "grade", "segment"],
+                            rows, [0.1, 0.04, 0.09, 0.09, 0.08, 0.08, 0.09, 0.09, 0.09, 0.13, 0.12]))]
 
 
 def _number(doc: list[Block]) -> list[Block]:

@@ -29,19 +29,34 @@ def _evaluation(path: str):
     return helix.evaluate(project), {}
 
 
-def _texts(fig):
-    """(text, printed em height in mm, window extent in mm as x0, y0, x1, y1) of every
-    visible, non-empty text artist of a figure, axes texts and tick labels included."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
+def _drawn(fig):
+    """The texts the renderer draws: visible, not blank, and tick labels only for the
+    ticks in view (matplotlib keeps spare tick label objects beyond the view limits)."""
     from matplotlib.text import Text
+    spare, shown = set(), []
+    for ax in fig.axes:
+        for axis in (ax.xaxis, ax.yaxis):
+            lo, hi = sorted(axis.get_view_interval())
+            for tick in axis.get_major_ticks() + axis.get_minor_ticks():
+                spare.update((id(tick.label1), id(tick.label2)))
+                loc = tick.get_loc()
+                if loc is not None and lo - 1e-9 * (hi - lo) <= loc <= hi + 1e-9 * (hi - lo):
+                    shown += [lab for lab in (tick.label1, tick.label2) if lab.get_visible()]
+    texts = {id(t): t for t in [t for t in fig.findobj(Text) if id(t) not in spare] + shown}
+    return [t for t in texts.values() if t.get_visible() and t.get_text().strip()
+            and (t.axes is None or t.axes.get_visible())]
+
+
+def _texts(fig):
+    """(text, printed em height in mm, artist, window extent in mm as x0, y0, x1, y1) of
+    every text drawn on a figure, axes texts and tick labels included."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
     canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
     renderer = canvas.get_renderer()
     fig.draw_without_rendering()
     scale = MM_PER_INCH / fig.dpi
     out = []
-    for t in fig.findobj(Text):
-        if not t.get_visible() or not t.get_text().strip():
-            continue
+    for t in _drawn(fig):
         bb = t.get_window_extent(renderer)
         out.append((t.get_text(), t.get_fontsize() * MM_PER_INCH / 72, t,
                     (bb.x0 * scale, bb.y0 * scale, bb.x1 * scale, bb.y1 * scale)))
