@@ -77,6 +77,8 @@ FIGURE_NOTES = {
                 "the inner kerb is than the outer, and each rule limit on its reference line.",
     "pareto": "Every searched design: footprint against steepest gradient. Read the trade-off between "
               "the two and which layouts fail.",
+    "options": "The best design of each layout in plan at one scale. Read how much of the plot each takes "
+               "and which checks each fails.",
 }
 
 
@@ -305,15 +307,24 @@ def _setting_out(ev: Evaluation, spacing: float, rows_max: int = 30) -> list[Blo
 
 
 def _number(doc: list[Block]) -> list[Block]:
-    """Number the tables and figures in reading order."""
+    """Number the tables and figures in reading order.  A table given as a plain
+    ``(header, rows, widths)`` takes the heading above it as its title; a figure given as
+    ``(name, caption)`` becomes a :class:`FigureRef`."""
     out: list[Block] = []
     n_table = n_fig = 0
+    heading = ""
     for kind, content in doc:
-        if kind == "table":
+        if kind in ("h1", "h2"):
+            heading = str(content)
+        elif kind == "table":
             n_table += 1
+            if not isinstance(content, Table):
+                content = Table(heading, *content)
             content = Table(content.title, content.header, content.rows, content.widths, n_table)
         elif kind == "figure":
             n_fig += 1
+            if not isinstance(content, FigureRef):
+                content = FigureRef(*content)
             content = FigureRef(content.name, content.title, n_fig)
         out.append((kind, content))
     return out
