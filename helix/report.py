@@ -308,8 +308,9 @@ def _setting_out(ev: Evaluation, spacing: float, rows_max: int = 30) -> list[Blo
 
 def _number(doc: list[Block]) -> list[Block]:
     """Number the tables and figures in reading order.  A table given as a plain
-    ``(header, rows, widths)`` takes the heading above it as its title; a figure given as
-    ``(name, caption)`` becomes a :class:`FigureRef`."""
+    ``(header, rows, widths)`` takes the heading above it as its title (and its cells'
+    check ids become words); a figure given as ``(name, caption)`` becomes a
+    :class:`FigureRef`."""
     out: list[Block] = []
     n_table = n_fig = 0
     heading = ""
@@ -318,8 +319,9 @@ def _number(doc: list[Block]) -> list[Block]:
             heading = str(content)
         elif kind == "table":
             n_table += 1
-            if not isinstance(content, Table):
-                content = Table(heading, *content)
+            if not isinstance(content, Table):  # made elsewhere: any check id in it in words too
+                header, rows, widths = content
+                content = Table(heading, list(header), [[in_words(str(c)) for c in r] for r in rows], list(widths))
             content = Table(content.title, content.header, content.rows, content.widths, n_table)
         elif kind == "figure":
             n_fig += 1
