@@ -75,8 +75,8 @@ FIGURE_NOTES = {
                  "clearance at the changes of grade and its roof clearance below the soffit.",
     "gradient": "Gradient against radius across the carriageway of the steepest storey. Read how much steeper "
                 "the inner kerb is than the outer, and each rule limit on its reference line.",
-    "pareto": "Every searched design: footprint against steepest gradient. Read the trade-off between "
-              "the two and which layouts fail.",
+    "pareto": "Each point is a searched design. Read the trade-off between a smaller footprint and a "
+              "flatter ramp, the design chosen, and which layouts fail.",
     "options": "The best design of each layout in plan at one scale. Read how much of the plot each takes "
                "and which checks each fails.",
 }
