@@ -355,7 +355,7 @@ _MEASURE_DPI = 720  # fine enough that hinting does not round glyph advances up 
 @lru_cache(maxsize=1)
 def _measurer():
     """An Agg renderer to measure text; made on first use."""
-    fig = Figure(dpi=_MEASURE_DPI)
+    fig = Figure(figsize=(1, 1), dpi=_MEASURE_DPI)  # the canvas size does not matter to a measure
     return FigureCanvasAgg(fig).get_renderer()
 
 
@@ -404,7 +404,7 @@ def _wrap(text: str, width_mm: float, size: float, bold: bool = False) -> list[s
 @lru_cache(maxsize=64)
 def _block_mm(size: float, lines: int) -> float:
     """Height of a block of ``lines`` lines as matplotlib lays it out (measured)."""
-    fig = Figure(figsize=(4, 4), dpi=_MEASURE_DPI)
+    fig = Figure(figsize=(1, 1), dpi=_MEASURE_DPI)
     canvas = FigureCanvasAgg(fig)
     t = fig.text(0, 0.5, "\n".join(["Hg"] * lines), fontsize=size, linespacing=_LINESPACING,
                  family=_FAMILY)
