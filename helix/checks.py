@@ -7,6 +7,7 @@ shows what was not required rather than silently leaving it out.
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -15,15 +16,44 @@ from .clearance import HeadroomPoint
 from .geometry import Helix, Thread
 from .project import Project
 from .rules import GradientLimit, Limit
-from .units import format_length
+from .units import format_angle, format_gradient, format_length, format_speed
 
-__all__ = ["Check", "reference_radii", "segment_slope", "segment_label", "segment_limit",
+__all__ = ["Check", "TITLES", "check_title", "in_words", "reference_radii", "segment_slope", "segment_label", "segment_limit",
            "storey_max_slope", "gradient_check", "inner_kerb_warning_check", "kerb_radius_checks",
            "lane_width_check", "clear_height_check", "footprint_check", "cross_fall_check",
            "lane_width_swept_check", "ground_clearance_check", "roof_clearance_check",
            "side_friction_check", "approach_checks"]
 
 _TOL = 1e-9
+
+#: Every check's name in words, as a reader sees it in the terminal table, the PDF and
+#: the Markdown; the id stays in the JSON (beside this ``title``).  Each entry is filled
+#: by the ``@titled`` mark on the function that makes the check, so the words sit next
+#: to the check's definition and nowhere else.
+TITLES: dict[str, str] = {}
+
+
+def titled(**titles: str):
+    """Register the words of the checks the decorated function makes."""
+    def mark(fn):
+        TITLES.update(titles)
+        return fn
+    return mark
+
+
+def check_title(check_id: str) -> str:
+    """The words for a check id (an unknown id is shown with spaces for underscores)."""
+    return TITLES.get(check_id) or check_id.replace("_", " ")
+
+
+_ID = re.compile(r"\b[a-z]+(?:_[a-z]+)+\b")
+
+
+def in_words(text: str) -> str:
+    """``text`` with every check id in it replaced by the check's words, for lines made
+    elsewhere from ids (a search's binding constraint, a list of failing checks)."""
+    return _ID.sub(lambda m: TITLES.get(m.group(0), m.group(0)).lower()
+                   if m.start() else TITLES.get(m.group(0), m.group(0)), text)
 
 
 @dataclass(frozen=True)
@@ -75,7 +105,7 @@ def _no_limit(rules_name: str) -> str:
     return f"not set by rule set {rules_name}"
 
 
-def reference_radii(thread: Thread, limit: GradientLimit) -> list[tuple[str, float]]:
+def reference_radii(thread: Thread, limit: GradientLimit, units: str = "metric") -> list[tuple[str, float]]:
     """Radii of the thread on which ``limit`` is measured.
 
     Each lane of a two-way thread is a driving line of its own: there the centre line
@@ -89,7 +119,7 @@ def reference_radii(thread: Thread, limit: GradientLimit) -> list[tuple[str, flo
     if limit.measured_at == "centre_line":
         return [("centre line", thread.centre_radius)]
     offset = limit.offset if limit.measured_at == "inner_kerb_offset" else 0.0
-    what = "inner kerb" if offset == 0.0 else limit.label
+    what = "inner kerb" if offset == 0.0 else f"{format_length(offset, units)} from the inner kerb"
     if lanes:
         return [(f"{lane.name}, {what}", lane.inner_radius + offset) for lane in lanes]
     return [(what, thread.inner_radius + offset)]
@@ -147,6 +177,10 @@ def _gradient_where(project: Project, t: Thread, j: int, line: str, r: float, si
             f"{' (falling along the ascent)' if sign < 0 else ''}, {line} (r = {format_length(r, u)})")
 
 
+@titled(gradient_centre_line="Gradient on the centre line",
+        gradient_lane_centre="Gradient on the lane centre line",
+        gradient_inner_kerb="Gradient on the inner kerb",
+        gradient_inner_kerb_offset="Gradient at the stated offset from the inner kerb")
 def gradient_check(project: Project, helix: Helix, limit: GradientLimit) -> Check:
     """Steepest gradient by magnitude (rising or falling) on the limit's reference
     line(s), on every segment: landings, transitions and runs.  Each storey's segments
@@ -154,7 +188,7 @@ def gradient_check(project: Project, helix: Helix, limit: GradientLimit) -> Chec
     segment with the least margin is reported."""
     worst = None
     for t in helix.threads:
-        refs = reference_radii(t, limit)
+        refs = reference_radii(t, limit, project.units)
         for j in range(len(t.profile.k)):
             k, sign = segment_slope(t, j)
             lim = segment_limit(project, t, limit, j)
@@ -163,10 +197,14 @@ def gradient_check(project: Project, helix: Helix, limit: GradientLimit) -> Chec
                 if worst is None or lim - g < worst[0]:
                     worst = (lim - g, g, lim, t, j, line, r, sign)
     _, g, lim, t, j, line, r, sign = worst  # type: ignore[misc]
-    return Check(limit.check_id, f"Gradient on the {limit.label}", g, lim, "max", "gradient",
+    title = check_title(limit.check_id)
+    if limit.measured_at == "inner_kerb_offset":
+        title += f" ({format_length(limit.offset, project.units)})"
+    return Check(limit.check_id, title, g, lim, "max", "gradient",
                  limit.source, _gradient_where(project, t, j, line, r, sign))
 
 
+@titled(gradient_inner_kerb_warning="Gradient on the inner kerb (warning only)")
 def inner_kerb_warning_check(project: Project, helix: Helix) -> Check | None:
     """Where the rule set limits the gradient on other lines only, a warning (not a
     failure) when any lane's inner kerb is steeper than a stated common-practice value."""
@@ -185,7 +223,7 @@ def inner_kerb_warning_check(project: Project, helix: Helix) -> Check | None:
                     line = "inner kerb" if len(t.lanes) == 1 else f"{lane.name}, inner kerb"
                     worst = (g, t, j, line, lane.inner_radius, sign)
     g, t, j, line, r, sign = worst  # type: ignore[misc]
-    return Check("gradient_inner_kerb_warning", "Gradient on the inner kerb (warning only)", g,
+    return Check("gradient_inner_kerb_warning", check_title("gradient_inner_kerb_warning"), g,
                  warn.value, "max", "gradient",
                  f"{warn.source}; rule set {rules.name} does not limit the inner kerb",
                  _gradient_where(project, t, j, line, r, sign),
@@ -193,6 +231,8 @@ def inner_kerb_warning_check(project: Project, helix: Helix) -> Check | None:
                  advisory=True)
 
 
+@titled(inner_kerb_radius="Inner kerb radius",
+        outer_kerb_radius="Outer kerb radius of each lane (the smallest)")
 def kerb_radius_checks(project: Project, helix: Helix) -> list[Check]:
     rules = project.rules
     inner = min(helix.threads, key=lambda t: t.inner_radius)
@@ -200,50 +240,60 @@ def kerb_radius_checks(project: Project, helix: Helix) -> list[Check]:
     t_out, lane_out = min(lanes, key=lambda tl: tl[1].outer_radius)
     checks = []
     lim = rules.inner_kerb_radius
-    checks.append(Check("inner_kerb_radius", "Inner kerb radius", inner.inner_radius,
+    checks.append(Check("inner_kerb_radius", check_title("inner_kerb_radius"), inner.inner_radius,
                         lim.value if lim else None, "min", "length",
                         lim.source if lim else _no_limit(rules.name), inner.name))
     lim = rules.outer_kerb_radius
     note = ""
     if lim is not None and lim.preferred is not None and lane_out.outer_radius < lim.preferred:
         note = f"below the preferred minimum of {format_length(lim.preferred, project.units)}"
-    checks.append(Check("outer_kerb_radius", "Outer kerb radius of each lane", lane_out.outer_radius,
+    where = f"{t_out.name}, {lane_out.name}"
+    if lane_out.outer_radius < helix.outer_radius - 1e-9:  # say which kerb: not the carriageway's
+        u = project.units
+        outer_t, outer_lane = max(lanes, key=lambda tl: tl[1].outer_radius)
+        where = (f"{t_out.name}: the outer kerb of the {lane_out.name}"
+                 + (" (beside the central kerb)" if lane_out is not t_out.lanes[-1] else "")
+                 + f"; each lane is checked on its own outer kerb, and the carriageway's outer kerb "
+                   f"({outer_t.name}, {outer_lane.name}) lies at {format_length(outer_lane.outer_radius, u)}")
+    checks.append(Check("outer_kerb_radius", check_title("outer_kerb_radius"), lane_out.outer_radius,
                         lim.value if lim else None, "min", "length",
-                        lim.source if lim else _no_limit(rules.name),
-                        f"{t_out.name}, {lane_out.name}", note))
+                        lim.source if lim else _no_limit(rules.name), where, note))
     return checks
 
 
+@titled(lane_width="Lane width")
 def lane_width_check(project: Project, helix: Helix) -> Check:
     rules = project.rules
     t = helix.threads[0]
     if project.traffic == "two-way" and rules.lane_width_two_way is not None:
         lim: Limit | None = rules.lane_width_two_way
         value = sum(lane.width for lane in t.lanes)
-        title, where = "Width of both lanes (central kerb excluded)", t.name
+        title, where = check_title("lane_width") + " of both lanes together (central kerb excluded)", t.name
     else:
         lim = rules.lane_width_one_way
         lane_t, lane = min(((th, ln) for th in helix.threads for ln in th.lanes),
                            key=lambda tl: tl[1].width)
-        value, title, where = lane.width, "Lane width", f"{lane_t.name}, {lane.name}"
+        value, title, where = lane.width, check_title("lane_width"), f"{lane_t.name}, {lane.name}"
     return Check("lane_width", title, value, lim.value if lim else None, "min", "length",
                  lim.source if lim else _no_limit(rules.name), where)
 
 
+@titled(clear_height="Clear headroom under the turn above")
 def clear_height_check(project: Project, head: HeadroomPoint | None, where: str) -> Check:
     rules = project.rules
     lim = rules.clear_height
     value = head.clear if head is not None else None
     note = "" if head is not None else "nothing lies above the ramp"
-    return Check("clear_height", "Clear headroom under the turn above", value,
+    return Check("clear_height", check_title("clear_height"), value,
                  lim.value if lim else None, "min", "length",
                  lim.source if lim else _no_limit(rules.name), where, note)
 
 
+@titled(footprint="Overall diameter within the footprint")
 def footprint_check(project: Project, helix: Helix) -> Check:
     """The helix, its clearances to structure and its outer wall, in the usable plot."""
     usable = min(project.site.usable)
-    return Check("footprint", "Overall diameter within the footprint", helix.overall_diameter,
+    return Check("footprint", check_title("footprint"), helix.overall_diameter,
                  usable, "max", "length",
                  "site footprint in the project file, less its margin; structure clearance "
                  "from the rule set",
@@ -252,6 +302,7 @@ def footprint_check(project: Project, helix: Helix) -> Check:
                  f"margin {format_length(project.site.margin, project.units)}")
 
 
+@titled(cross_fall="Cross-fall of the curved ramp")
 def cross_fall_check(project: Project, helix: Helix) -> Check:
     rules = project.rules
     lim = rules.cross_fall_min
@@ -260,7 +311,7 @@ def cross_fall_check(project: Project, helix: Helix) -> Check:
     if lim is None and value == 0.0:
         warning = ("no cross-fall: the rule set sets no minimum and the design gives none, so the "
                    "curved ramp has no drainage fall and no superelevation")
-    return Check("cross_fall", "Cross-fall of the curved ramp", value, lim.value if lim else None,
+    return Check("cross_fall", check_title("cross_fall"), value, lim.value if lim else None,
                  "min", "gradient", lim.source if lim else _no_limit(rules.name),
                  "all threads", warning, warning=warning)
 
@@ -268,6 +319,7 @@ def cross_fall_check(project: Project, helix: Helix) -> Check:
 # ----------------------------------------------------------------------------------
 # The design vehicle
 
+@titled(lane_width_swept="Lane width for the vehicle's swept path")
 def lane_width_swept_check(project: Project, helix: Helix) -> Check:
     """Each lane against the width the vehicle's steady-state swept band needs, with the
     rule set's clearances to the inner and the outer kerb; the lane with the least
@@ -287,7 +339,8 @@ def lane_width_swept_check(project: Project, helix: Helix) -> Check:
     lim_out = rules.swept_path_clearance_outer or rules.swept_path_clearance
     sources = dict.fromkeys(lim.source for lim in (lim_in, lim_out) if lim is not None)
     src = ("steady-state offtracking of the design vehicle (AASHTO Green Book 2011 turning "
-           f"geometry) plus {c_in:.2f} m to the inner and {c_out:.2f} m to the outer kerb"
+           f"geometry) plus {format_length(c_in, project.units)} to the inner and "
+           f"{format_length(c_out, project.units)} to the outer kerb"
            + (f" ({'; '.join(sources)})" if sources else " (no kerb clearance set by the rule set)"))
     note = (f"swept band {format_length(band.inner_radius, project.units)} to "
             f"{format_length(band.outer_radius, project.units)}, "
@@ -298,7 +351,7 @@ def lane_width_swept_check(project: Project, helix: Helix) -> Check:
         warning = (f"no clearance to the {sides} kerb: the rule set sets none, so the swept band may "
                    "touch the kerb")
         note = f"{note}; {warning}"
-    return Check("lane_width_swept", "Lane width for the vehicle's swept path", width, need, "min",
+    return Check("lane_width_swept", check_title("lane_width_swept"), width, need, "min",
                  "length", src, where, note, warning=warning)
 
 
@@ -310,23 +363,26 @@ def _vehicle_clearance_check(check_id: str, title: str, lim: Limit | None, conta
                  lim.source if lim else geometric, where, "" if contact is not None else missing)
 
 
+@titled(underbody_clearance="Underbody and overhang clearance at changes of grade")
 def ground_clearance_check(project: Project, contact, where: str) -> Check:
     return _vehicle_clearance_check(
-        "underbody_clearance", "Underbody and overhang clearance at changes of grade",
+        "underbody_clearance", check_title("underbody_clearance"),
         project.rules.ground_clearance_margin, contact, where,
         "geometric: the body must not touch the running surface", "vehicle gives no ground clearances")
 
 
+@titled(roof_clearance="Vehicle roof below the soffit overhead")
 def roof_clearance_check(project: Project, contact, where: str) -> Check:
     return _vehicle_clearance_check(
-        "roof_clearance", "Vehicle roof below the soffit overhead", project.rules.vehicle_roof_clearance,
+        "roof_clearance", check_title("roof_clearance"), project.rules.vehicle_roof_clearance,
         contact, where, "geometric: the roof must not touch the structure", "nothing lies above the ramp")
 
 
+@titled(side_friction="Side friction demand at the design speed")
 def side_friction_check(project: Project, helix: Helix) -> Check:
     """Side friction demand at the design speed on each lane's centre line."""
     from .turning import side_friction, speed_at_friction
-    rules = project.rules
+    rules, u = project.rules, project.units
     speed = rules.design_speed.value if rules.design_speed else 15 / 3.6
     lim = rules.side_friction_max
     worst = None
@@ -339,19 +395,22 @@ def side_friction_check(project: Project, helix: Helix) -> Check:
     note = ""
     if lim is not None:
         v_lim = float(speed_at_friction(lim.value, lane.centre_radius, t.cross_fall))
-        note = f"limit reached at {v_lim * 3.6:.0f} km/h"
-    src_speed = rules.design_speed.source if rules.design_speed else "15 km/h, common practice, no single source"
-    return Check("side_friction", "Side friction demand at the design speed", f,
+        note = f"limit reached at {format_speed(v_lim, u)}"
+    src_speed = rules.design_speed.source if rules.design_speed else "common practice, no single source"
+    return Check("side_friction", check_title("side_friction"), f,
                  lim.value if lim else None, "max", "number",
-                 (lim.source if lim else _no_limit(rules.name)) + f"; design speed {speed * 3.6:.0f} km/h "
-                 f"({src_speed}); f = V^2/(127 R) - e, AASHTO Green Book 2011",
-                 f"{t.name}, {lane.name} centre (r = {format_length(lane.centre_radius, project.units)}), "
-                 f"e = {100 * t.cross_fall:.1f} %", note)
+                 (lim.source if lim else _no_limit(rules.name)) + f"; design speed {format_speed(speed, u)} "
+                 f"({src_speed}); f = V^2/(127 R) - e (V in km/h, R in m), AASHTO Green Book 2011",
+                 f"{t.name}, {lane.name} centre (r = {format_length(lane.centre_radius, u)}), "
+                 f"e = {format_gradient(t.cross_fall, u)}", note)
 
 
 # ----------------------------------------------------------------------------------
 # Approaches and exits: where each floor's aisle meets the helix
 
+@titled(approach_clear_height="Clear headroom over the floor approaches and exits",
+        approach_roof_clearance="Vehicle roof below the structure over the approaches",
+        approach_grade_change="Change of grade where the aisle meets the helix")
 def approach_checks(project: Project, helix: Helix, results) -> list[Check]:
     """Clear height and roof clearance over every floor's approach and exit lines, and
     the change of grade where each aisle meets the helix (see :mod:`helix.approach`)."""
@@ -363,7 +422,7 @@ def approach_checks(project: Project, helix: Helix, results) -> list[Check]:
         lane = "" if len(t.lanes) == 1 else f", {ln.lane}"
         how = ("given approach line" if ln.side == "given line" else
                (f"tangent {ln.side} the connection" if ln.angle == 0 else
-                f"straight aisle {ln.side} the connection, {math.degrees(ln.angle):.0f} deg off the tangent"))
+                f"straight aisle {ln.side} the connection, {format_angle(math.degrees(ln.angle), 0)} off the tangent"))
         edge = ("lane centre" if abs(res.offset) < 1e-9 else
                 ("left lane edge" if res.offset > 0 else "right lane edge"))
         return (f"{t.name}{lane}, {project.levels[ln.level].name}, {how}, "
@@ -372,13 +431,13 @@ def approach_checks(project: Project, helix: Helix, results) -> list[Check]:
     covered = [r for r in results if np.isfinite(r.clear)]
     head = min(covered, key=lambda r: r.clear) if covered else None
     lim = rules.clear_height
-    out = [Check("approach_clear_height", "Clear headroom over the floor approaches and exits",
+    out = [Check("approach_clear_height", check_title("approach_clear_height"),
                  head.clear if head else None, lim.value if lim else None, "min", "length",
                  lim.source if lim else _no_limit(rules.name), where(head) if head else "",
                  "" if head else "nothing lies over any approach")]
     lim = rules.vehicle_roof_clearance
     h = project.vehicle.height
-    out.append(Check("approach_roof_clearance", "Vehicle roof below the structure over the approaches",
+    out.append(Check("approach_roof_clearance", check_title("approach_roof_clearance"),
                      head.clear - h if head else None, lim.value if lim else 0.0, "min", "length",
                      (lim.source if lim else "geometric: the roof must not touch the structure")
                      + f"; the roof lies the vehicle height ({format_length(h, u)}) above the straight aisle",
@@ -391,10 +450,10 @@ def approach_checks(project: Project, helix: Helix, results) -> list[Check]:
         t = helix.threads[ln.thread]
         lane = "" if len(t.lanes) == 1 else f", {ln.lane}"
         out.append(Check(
-            "approach_grade_change", "Change of grade where the aisle meets the helix", change,
+            "approach_grade_change", check_title("approach_grade_change"), change,
             rule.when_grade_change_over if rule else None, "max", "gradient",
             (f"{rule.source} (the change of grade above which a transition is needed)" if rule
              else _no_limit(rules.name)),
-            f"{t.name}{lane}, {project.levels[ln.level].name}: aisle {100 * ln.grade:.2f} %, "
-            f"helix {100 * ln.helix_grade:.2f} % on the lane centre line"))
+            f"{t.name}{lane}, {project.levels[ln.level].name}: aisle {format_gradient(ln.grade, u)}, "
+            f"helix {format_gradient(ln.helix_grade, u)} on the lane centre line"))
     return out

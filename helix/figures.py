@@ -456,10 +456,10 @@ def plan_figure(ev: Evaluation) -> Figure:
             ax.annotate("", tip, C, arrowprops=dict(arrowstyle="-|>", color="#333333", lw=0.6, shrinkA=0, shrinkB=0,
                                                     mutation_scale=7))
             side_ = 1 if j % 2 == 0 else -1
-            off = (side_ * 2.0 * nx_ - 1.0 * ux, side_ * 2.0 * ny_ - 1.0 * uy)  # mm, beside the tip
-            ha = "left" if off[0] > 0.3 else ("right" if off[0] < -0.3 else "center")
-            va = "bottom" if off[1] > 0.3 else ("top" if off[1] < -0.3 else "center")
-            ax.annotate(f"{tag} {format_length(r, p.units)}", tip, (off[0] / POINT_MM, off[1] / POINT_MM),
+            beside = (side_ * 2.0 * nx_ - 1.0 * ux, side_ * 2.0 * ny_ - 1.0 * uy)  # mm, beside the tip
+            ha = "left" if beside[0] > 0.3 else ("right" if beside[0] < -0.3 else "center")
+            va = "bottom" if beside[1] > 0.3 else ("top" if beside[1] < -0.3 else "center")
+            ax.annotate(f"{tag} {format_length(r, p.units)}", tip, (beside[0] / POINT_MM, beside[1] / POINT_MM),
                         textcoords="offset points", fontsize=SMALL, ha=ha, va=va,
                         bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none"))
         wb = free + math.pi
@@ -1334,7 +1334,8 @@ def options_figure(result: Any) -> Figure:
     capacity, drive time, deck, bays taken) below."""
     from .checks import check_title
     from .comparison import compare_options
-    from .results import SHORT_TITLES, format_area, format_duration
+    from .results import SHORT_TITLES, format_area
+    from .units import format_duration
     from .search import LAYOUT_TITLES
     p = result.project
     u = p.units

@@ -10,9 +10,10 @@ import math
 from typing import Any
 
 from .evaluate import Evaluation
-from .units import format_gradient, format_length
+from .checks import TITLES, check_title, in_words
+from .units import format_duration, format_gradient, format_length, format_number, format_speed
 
-__all__ = ["to_dict", "to_json", "check_table", "CAUTION"]
+__all__ = ["to_dict", "to_json", "check_table", "format_check", "constraint_words", "CAUTION"]
 
 CAUTION = ("helix is a design aid. Results must be verified by a qualified professional "
            "against the codes and standards in force where the car park is built; local rules "
@@ -156,21 +157,50 @@ def to_json(data: dict) -> str:
     return json.dumps(data, indent=2, sort_keys=False, allow_nan=False) + "\n"
 
 
-def _fmt(c, x, units: str) -> str:
+def format_check(c, x: float | None, units: str) -> str:
+    """A check's value, limit or margin in the project's units, by the one formatter of
+    its quantity (every table of the terminal, the PDF and the Markdown uses this)."""
     if x is None:
         return "-"
-    x = round(x, 9) + 0.0  # no "-0.000" for a value exactly at its limit
     if c.quantity == "gradient":
         return format_gradient(x, units)
     if c.quantity == "length":
-        return format_length(x, units) if units == "imperial" else f"{x:.3f} m"
-    return f"{x:.3f}"
+        return format_length(x, units)
+    return format_number(x)
+
+
+def format_limit(c, units: str) -> str:
+    """``'<= 12.00 %'``, ``'>= 2.100 m'`` or ``'-'`` where the rule set sets none."""
+    if c.limit is None:
+        return "-"
+    return ("<= " if c.sense == "max" else ">= ") + format_check(c, c.limit, units)
+
+
+#: Words for the search's constraints that are not checks of their own.
+_CONSTRAINTS = {"target_gradient": "Target gradient of the design", "centre_radius": "Centre radius range",
+                "turns_per_storey": "Turns per storey", "layout": "Layout", "several": "Several constraints"}
+
+
+def constraint_words(key: str) -> str:
+    """A search constraint (a check id or one of the search's own keys) in words."""
+    return TITLES.get(key) or _CONSTRAINTS.get(key) or check_title(key)
 
 
 def _table(rows: list[list[str]], header: list[str]) -> str:
     widths = [max(len(r[i]) for r in [header] + rows) for i in range(len(header))]
     line = lambda r: "  ".join(cell.ljust(w) for cell, w in zip(r, widths)).rstrip()
     return "\n".join([line(header), line(["-" * w for w in widths])] + [line(r) for r in rows])
+
+
+def lane_kerbs_text(ev: Evaluation) -> str:
+    """Each lane's inner and outer kerb radius where lanes differ (a two-way helix), so a
+    lane's outer kerb is never mistaken for the carriageway's; ``''`` where they do not."""
+    h, u = ev.helix, ev.project.units
+    lanes = [(t, ln) for t in h.threads for ln in t.lanes]
+    if len({(round(ln.inner_radius, 6), round(ln.outer_radius, 6)) for _, ln in lanes}) < 2:
+        return ""
+    return "; ".join(f"{(t.name + ' ') if len(h.threads) > 1 else ''}{ln.name}: "
+                     f"{format_length(ln.inner_radius, u)} to {format_length(ln.outer_radius, u)}" for t, ln in lanes)
 
 
 def check_table(ev: Evaluation) -> str:
@@ -183,6 +213,9 @@ def check_table(ev: Evaluation) -> str:
                     format_length(t.outer_radius, u),
                     ", ".join(format_length(ln.width, u) for ln in t.lanes)])
     out.append(_table(geo, ["thread", "traffic", "inner kerb", "centre line", "outer kerb", "lane widths"]))
+    lanes = lane_kerbs_text(ev)
+    if lanes:
+        out.append(f"kerb radii of each lane (inner kerb to outer kerb): {lanes}")
     out.append(f"overall diameter with structure: {format_length(h.overall_diameter, u)}")
     out.append("")
     rows = []
@@ -196,22 +229,21 @@ def check_table(ev: Evaluation) -> str:
     out.append("")
     rows = []
     for c in ev.checks:
-        margin = c.margin
-        rows.append([c.status, c.id, _fmt(c, c.value, u),
-                     ("<= " if c.sense == "max" else ">= ") + _fmt(c, c.limit, u) if c.limit is not None else "-",
-                     _fmt(c, margin, u) if margin is not None else "-", c.where])
+        rows.append([c.status, c.title, format_check(c, c.value, u), format_limit(c, u),
+                     format_check(c, c.margin, u), c.where])
     out.append(_table(rows, ["status", "check", "value", "limit", "margin", "where"]))
     out.append("")
     out.append("Sources of the limits:")
     for c in ev.checks:
-        out.append(f"  {c.id}: {c.source}")
+        out.append(f"  {c.title}: {c.source}")
     out.append("")
-    fails = [c.id for c in ev.checks if not c.ok]
+    fails = [c.title for c in ev.checks if not c.ok]
     out.append("RESULT: all checks pass" if not fails else f"RESULT: {len(fails)} check(s) fail: {', '.join(fails)}")
     for c in ev.checks:
         if c.warns:
-            out.append(f"WARNING: {c.id}: {c.warning or c.note}"
-                       + (f" ({_fmt(c, c.value, u)}, practice value {_fmt(c, c.limit, u)})" if c.advisory else ""))
+            out.append(f"WARNING: {c.title}: {c.warning or c.note}"
+                       + (f" ({format_check(c, c.value, u)}, practice value {format_check(c, c.limit, u)})"
+                          if c.advisory else ""))
     out.append("CAUTION: " + CAUTION)
     return "\n".join(out) + "\n"
 
@@ -242,13 +274,6 @@ def option_dict(option, comparison=None) -> dict[str, Any]:
     })
     data["ok"] = bool(option.feasible and data.get("ok", False))
     return data
-
-
-def format_speed(metres_per_second: float, units: str) -> str:
-    """``'15 km/h'`` or ``'9 mph'``."""
-    if units == "imperial":
-        return f"{metres_per_second * 3600 / 1609.344:.0f} mph"
-    return f"{metres_per_second * 3.6:.0f} km/h"
 
 
 def turns_text(turns) -> str:
@@ -283,9 +308,9 @@ def format_shortfall(item: dict, units: str) -> str:
         return ""
     key = item.get("constraint", "")
     if key.startswith("gradient") or key in ("target_gradient", "cross_fall"):
-        return f"{100 * short:.2f} percentage points"
+        return f"{format_number(100 * short, 2)} percentage points"
     if key == "side_friction":
-        return f"{short:.3f}"
+        return format_number(short)
     return format_length(short, units)
 
 
@@ -337,7 +362,7 @@ def design_table(result) -> str:
         h = ev.helix
         first = [s for s in ev.storeys if s.thread == h.threads[0].name]
         head = ev.headroom.clear if ev.headroom else None
-        fails = [c.id for c in ev.checks if not c.ok]
+        fails = [c.title.lower() for c in ev.checks if not c.ok]
         geo.append([str(rank), name, str(len(h.threads)), turns_text(s.turns for s in first),
                     format_length(h.threads[0].centre_radius, u),
                     format_length(min(ln.width for t in h.threads for ln in t.lanes), u),
@@ -346,8 +371,8 @@ def design_table(result) -> str:
         grades.append([str(rank), name, format_gradient(ev.max_gradient("inner kerb"), u),
                        format_gradient(ev.max_gradient("centre line"), u),
                        format_gradient(ev.max_gradient("outer kerb"), u),
-                       format_length(sum(s.length_centre for s in first) / len(first), u), f"{drive_time(ev):.0f} s"])
-        binding.append([str(rank), name, o.binding if o.feasible else
+                       format_length(sum(s.length_centre for s in first) / len(first), u), format_duration(drive_time(ev))])
+        binding.append([str(rank), name, in_words(o.binding) if o.feasible else
                         ("fails " + ", ".join(fails) if fails else "infeasible")])
     out.append(_table(geo, ["#", "layout", "threads", "turns", "centre radius", "lane", "diameter", "headroom",
                             "status"]))
@@ -376,9 +401,9 @@ def design_table(result) -> str:
         for item in o.explanation:
             short = format_shortfall(item, u)
             by = f" short by {short}" if short else ""
-            out.append(f"  - {item['constraint']}{by}: {item.get('change', '')}")
+            out.append(f"  - {constraint_words(item['constraint'])}{by}: {in_words(item.get('change', ''))}")
             if item.get("verified_result"):
-                out.append(f"      {item['verified_result']}")
+                out.append(f"      {in_words(item['verified_result'])}")
         out.append("")
     if result.best is None:
         out.append("RESULT: no layout passes every check; see the changes above")
@@ -386,7 +411,7 @@ def design_table(result) -> str:
         best = result.options[result.best]
         out.append(f"RESULT: best is {LAYOUT_TITLES[best.layout]} "
                    f"(centre radius {format_length(best.evaluation.helix.threads[0].centre_radius, u)}, "
-                   f"binding: {best.binding})")
+                   f"binding: {in_words(best.binding)})")
     out.append(f"Pareto set (diameter, steepest inner gradient, drive per storey): {len(result.pareto)} designs")
     out.append("CAUTION: " + CAUTION)
     return "\n".join(out) + "\n"
@@ -407,14 +432,6 @@ def format_area(m2: float, units: str) -> str:
 def format_volume(m3: float, units: str) -> str:
     """``'308 m³'`` or ``'403 yd³'`` (concrete is ordered by the cubic yard)."""
     return f"{m3 / CU_YARD:,.0f} yd³" if units == "imperial" else f"{m3:,.1f} m³"
-
-
-def format_duration(seconds: float) -> str:
-    """``'48 s'`` or ``'12 min 05 s'``."""
-    if seconds < 600:
-        return f"{seconds:.0f} s"
-    m, s = divmod(int(round(seconds)), 60)
-    return f"{m} min {s:02d} s"
 
 
 def _plus_minus(x: float, units: str) -> str:

@@ -13,7 +13,7 @@ from typing import Any
 
 from .errors import InputError, Node, finite, require
 from .library_files import find_named, read_yaml
-from .units import format_length, format_speed
+from .units import format_gradient, format_length, format_number, format_speed
 
 __all__ = ["Limit", "GradientLimit", "TransitionRule", "RuleSet", "load_rule_set",
            "REFERENCE_LINES"]
@@ -145,9 +145,12 @@ class RuleSet:
         rows = []
         for g in self.gradient:
             steps = ", ".join(
-                (f"{100 * v:.2f} % up to {r:.2f} m rise" if math.isfinite(r) else f"{100 * v:.2f} %")
+                (f"{format_gradient(v, units)} up to {format_length(r, units)} rise" if math.isfinite(r)
+                 else format_gradient(v, units))
                 for r, v in g.by_rise)
-            rows.append((f"gradient on {g.label}", steps, g.source))
+            where = (f"{format_length(g.offset, units)} from the inner kerb" if g.measured_at == "inner_kerb_offset"
+                     else g.label)
+            rows.append((f"gradient on {where}", steps, g.source))
         for key in ("lane_width_one_way", "lane_width_two_way", "central_kerb_width",
                     "inner_kerb_radius", "outer_kerb_radius", "clear_height",
                     "structure_clearance_outside", "structure_clearance_inside",
@@ -161,7 +164,7 @@ class RuleSet:
         if self.transition is not None:
             t = self.transition
             rows.append(("transition", f"{format_length(t.length, units)} at half the change where it exceeds "
-                         f"{100 * t.when_grade_change_over:.1f} %", t.source))
+                         f"{format_gradient(t.when_grade_change_over, units)}", t.source))
         return rows
 
 
@@ -175,12 +178,12 @@ INNER_KERB_WARNING = Limit(
 
 def _value_text(key: str, value: float, units: str = "metric") -> str:
     if key.startswith("cross_fall") or key == "inner_kerb_gradient_warning":
-        return f"{100 * value:.1f} %"
+        return format_gradient(value, units)
     if key == "design_speed":
         return format_speed(value, units)
     if key == "side_friction_max":
-        return f"{value:.2f}"
-    return format_length(value, units) if units == "imperial" else f"{value:.3f} m"
+        return format_number(value)
+    return format_length(value, units)
 
 
 # ----------------------------------------------------------------------------------

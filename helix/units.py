@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import math
 import re
+from decimal import ROUND_HALF_UP, Context, Decimal
 
 __all__ = [
     "UnitError",
@@ -27,6 +28,10 @@ __all__ = [
     "format_level",
     "format_gradient",
     "format_speed",
+    "format_angle",
+    "format_number",
+    "format_duration",
+    "fixed",
     "FOOT",
     "INCH",
 ]
@@ -247,20 +252,46 @@ def parse_speed(value: object) -> float:
 # Formatting
 
 
+_EXACT = Context(prec=400, rounding=ROUND_HALF_UP)  # room for every digit of any float
+
+
+def fixed(x: float, places: int) -> str:
+    """``x`` with ``places`` decimals, halves rounded away from zero.
+
+    The one rounding rule of every printed quantity: the value is first cut to 9
+    decimals, so two computations of one quantity that differ in the last bits of a
+    float (5.30499999999 and 5.30500000001) print alike, and a half is rounded up
+    (5.305 -> 5.31) rather than to the nearest even digit or the binary accident of
+    ``'%.2f'``.  A result of zero never prints as ``-0.00``.
+
+    >>> fixed(5.305, 2), fixed(5.30499999999, 2), fixed(-0.0004, 3), fixed(2.5, 0), fixed(float("inf"), 1)
+    ('5.31', '5.31', '0.000', '3', 'inf')
+    """
+    x = float(x)
+    if not math.isfinite(x):  # as '%f' prints it; never raised on, whatever reaches a table
+        return f"{x:.{places}f}"
+    q = Decimal(repr(round(x, 9))).quantize(Decimal(1).scaleb(-places), context=_EXACT)
+    if q == 0:
+        q = abs(q)
+    return f"{q:f}"
+
+
 def _feet_inches(metres: float, inch_step: float = 0.5) -> tuple[int, int, float]:
-    total_in = round(abs(metres) / INCH / inch_step) * inch_step
+    steps = int(fixed(abs(float(metres)) / INCH / inch_step, 0))
+    total_in = steps * inch_step
     feet = int(total_in // 12)
     inches = total_in - 12 * feet
     return (-1 if metres < 0 else 1), feet, inches
 
 
-def format_length(metres: float, system: str = "metric", *, precision: int = 2) -> str:
-    """``'3.15 m'`` (metric) or ``'10'-4"'`` (imperial, to the nearest half inch)."""
+def format_length(metres: float, system: str = "metric", *, precision: int = 3) -> str:
+    """``'3.150 m'`` (metric, to the millimetre) or ``'10'-4"'`` (imperial, to the
+    nearest half inch): one rule for every length in every table."""
     if system == "imperial":
         sign, feet, inches = _feet_inches(metres)
         inch_text = f"{inches:g}"
         return f"{'-' if sign < 0 and (feet or inches) else ''}{feet}'-{inch_text}\""
-    return f"{metres:.{precision}f} m"
+    return f"{fixed(metres, precision)} m"
 
 
 def format_level(metres: float, system: str = "metric") -> str:
@@ -268,21 +299,41 @@ def format_level(metres: float, system: str = "metric") -> str:
     if system == "imperial":
         text = format_length(metres, "imperial")
         return text if text.startswith("-") else "+" + text
-    return f"{metres:+.3f}"
+    text = fixed(metres, 3)
+    return text if text.startswith("-") else "+" + text
 
 
 def format_gradient(ratio: float, system: str = "metric") -> str:
     """``'8.33 %'``; imperial reports add the ``1:n`` form, as the trade writes it there."""
-    pct = f"{100 * ratio:.2f} %"
-    if system == "imperial" and ratio > 0:
-        return f"{pct} (1:{1 / ratio:.1f})"
+    pct = f"{fixed(100 * ratio, 2)} %"
+    if system == "imperial" and round(ratio, 9) > 0:
+        return f"{pct} (1:{fixed(1 / ratio, 1)})"
     return pct
 
 
 def format_speed(mps: float, system: str = "metric") -> str:
+    """``'15 km/h'`` (whole km/h) or ``'9.3 mph'`` (a tenth: a whole mph is too coarse)."""
     if system == "imperial":
-        return f"{mps / 0.44704:.1f} mph"
-    return f"{mps * 3.6:.1f} km/h"
+        return f"{fixed(mps / 0.44704, 1)} mph"
+    return f"{fixed(mps * 3.6, 0)} km/h"
+
+
+def format_angle(degrees: float, places: int = 2) -> str:
+    """A plan angle or bearing: ``'352.04 deg'``."""
+    return f"{fixed(degrees, places)} deg"
+
+
+def format_duration(seconds: float) -> str:
+    """A time in whole seconds: ``'48 s'``; from ten minutes on, ``'16 min 05 s'``."""
+    if seconds < 600:
+        return f"{fixed(seconds, 0)} s"
+    m, sec = divmod(int(fixed(seconds, 0)), 60)
+    return f"{m} min {sec:02d} s"
+
+
+def format_number(x: float, places: int = 3) -> str:
+    """A plain number such as a friction factor: ``'0.199'``."""
+    return fixed(x, places)
 
 
 _ANGLE = re.compile(rf"^\s*({_NUMBER})\s*(deg|degrees?|°|rad)?\s*$", re.I)

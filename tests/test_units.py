@@ -162,7 +162,7 @@ def test_parse_angle_refuses(value):
 # -- formatting and round trips ----------------------------------------------------
 
 def test_format_examples():
-    assert format_length(3.15) == "3.15 m"
+    assert format_length(3.15) == "3.150 m"
     assert format_length(3.2004, "imperial") == "10'-6\""
     assert format_length(0.0127, "imperial") == "0'-0.5\""
     assert format_length(-0.1016, "imperial") == "-0'-4\""
