@@ -1342,11 +1342,18 @@ def options_figure(result: Any) -> Figure:
     s = _Scale(u)
     shown = [(i, o, c) for i, (o, c) in enumerate(zip(result.options, compare_options(result)), 1)
              if o.evaluation is not None and c is not None]
-    half = 0.52 * max([p.site.width, p.site.depth] + [o.evaluation.helix.overall_diameter for _, o, _ in shown])
-    left, right, top, gap = 30.0, 402.0, 278.0, 10.0
+    def extent(h: Any) -> tuple[float, float, float, float]:  # the site and the helix's outside face
+        (cx, cy), r = h.centre, h.structure_radius
+        return (min(0.0, cx - r), min(0.0, cy - r), max(p.site.width, cx + r), max(p.site.depth, cy + r))
+
+    boxes = [extent(o.evaluation.helix) for _, o, _ in shown]
+    span_x = max([b[2] - b[0] for b in boxes] + [p.site.width]) + 0.5
+    span_y = max([b[3] - b[1] for b in boxes] + [p.site.depth]) + 0.5
+    left, right, top, gap = 26.0, 406.0, 278.0, 6.0
     k_n = max(len(shown), 1)
-    side = min((right - left - gap * (k_n - 1)) / k_n, 130.0)
-    n = drawing_scale((2 * half, 2 * half), (side, side))
+    side = min((right - left - gap * (k_n - 1)) / k_n, 150.0)
+    n = drawing_scale((span_x, span_y), (side, 150.0))
+    panel_h = min(span_y * 1000.0 / n + 6.0, 150.0)
     with _styled():
         fig, sheet = _sheet(p, "options", f"Options in plan at one scale (objective {p.search.objective})",
                             f"1:{n} at {SHEET_OF['options']}", (n, s.unit_m, s.name))
@@ -1359,8 +1366,9 @@ def options_figure(result: Any) -> Figure:
             h = ev.helix
             cx, cy = h.centre
             bx = x_start + k * (side + gap)
-            ax = axes_mm(fig, sheet, (bx, top - side, bx + side, top))
-            set_true_scale(ax, n, (float(s(cx)), float(s(cy))), s.unit_m)
+            ax = axes_mm(fig, sheet, (bx, top - panel_h, bx + side, top))
+            b = extent(h)
+            set_true_scale(ax, n, (float(s(0.5 * (b[0] + b[2]))), float(s(0.5 * (b[1] + b[3])))), s.unit_m)
             ax.set_xticks([])
             ax.set_yticks([])
             ax.add_patch(Rectangle((0, 0), float(s(p.site.width)), float(s(p.site.depth)), fill=False,
@@ -1404,7 +1412,7 @@ def options_figure(result: Any) -> Figure:
                 f"empty {t.bays} bays in {format_duration(t.empty_time)}" if t.empty_time is not None else "",
                 f"deck {format_area(c.quantities.deck_area, u)}; takes {c.quantities.bays_per_level} bays a level",
             ]
-            _note(fig, bx, top - side - 4.0, _wrap_lines([x for x in lines if x], side, SMALL), linespacing=1.3)
+            _note(fig, bx, top - panel_h - 4.0, _wrap_lines([x for x in lines if x], side, SMALL), linespacing=1.3)
         legend = ("Drawn per option, all at one scale: the plot (solid green) and its usable footprint (dashed), "
                   "each thread's running surface shaded between its kerbs (blue, vermilion), lane centre lines "
                   "dashed, the outside face of the structure (thick grey), the core (grey disc), and the plot "

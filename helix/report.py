@@ -577,14 +577,17 @@ class _Layout:
 
 def _layout(doc: list[Block], figures: dict) -> list[Page]:
     lay = _Layout()
-    for kind, content in doc:
+    for i, (kind, content) in enumerate(doc):
+        # A heading stays with the start of the table under it (its caption, header and
+        # the first rows that orphan control keeps together), never alone at a page foot.
+        with_table = 45.0 if i + 1 < len(doc) and doc[i + 1][0] == "table" else 0.0
         if kind == "page":
             lay.close()
         elif kind == "h1":
-            lay.need(25.0)
+            lay.need(25.0 + with_table)
             lay.paragraph(str(content), size=15, bold=True, gap=3.0)
         elif kind == "h2":
-            lay.need(20.0)
+            lay.need(20.0 + with_table)
             lay.paragraph(str(content), size=11, bold=True, gap=1.5)
         elif kind == "p":
             if content:

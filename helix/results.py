@@ -539,13 +539,13 @@ def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str
             for i, r in enumerate(s.rows):
                 step = "1 %" if r.parameter == "gradient" else (
                     f"{r.step * 1000:.0f} mm" if u == "metric" else f"{format_length(r.step, u)} ({r.step * 1000:.0f} mm)")
-                switch = "; ".join(x for x in (f"+: {r.switch_plus}" if r.switch_plus else "",
-                                              f"-: {r.switch_minus}" if r.switch_minus else "") if x)
+                switch = in_words("; ".join(x for x in (f"+: {r.switch_plus}" if r.switch_plus else "",
+                                                         f"-: {r.switch_minus}" if r.switch_minus else "") if x))
                 sens.append([side[i] if i < len(side) else "", f"{SHORT_PARAMETERS[r.parameter]} ±{step}",
                              _plus_minus(r.d_radius, u), _plus_minus(r.d_diameter, u),
                              switch or ("fixed" if not s.movable else "")])
         for i, k in enumerate(c.tightest):
-            marg.append([name if i == 0 else "", k.id, _margin_text(k, u), k.status])
+            marg.append([name if i == 0 else "", check_title(k.id), _margin_text(k, u), k.status])
     speed_text = format_speed(speed if speed is not None else 15 / 3.6, u)
     b = basis
     return [

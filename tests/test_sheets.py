@@ -41,6 +41,7 @@ def _figures(name: str):
     out = [(stem, make) for stem, make, _ in F.FIGURES]
     if result is not None:
         out.append(("pareto", lambda _ev, result=result: F.pareto_figure(result)))
+        out.append(("options", lambda _ev, result=result: F.options_figure(result)))
     return ev, out
 
 
