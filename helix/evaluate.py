@@ -83,7 +83,7 @@ class Evaluation:
     >>> import helix
     >>> ev = helix.evaluate(helix.load_project(helix.demo_file("demo-metric")))
     >>> ev
-    <Evaluation of 'Millbrook Street car park (invented demo)': all checks pass, headroom 2.45 m>
+    <Evaluation of 'Millbrook Street car park (invented demo)': all checks pass, headroom 2.450 m>
     >>> ev.check("clear_height").ok, round(float(ev.max_gradient("centre line")) * 100, 1)
     (True, 5.3)
     """

@@ -998,7 +998,7 @@ class DesignResult:
     >>> import helix
     >>> result = helix.design(helix.load_project(helix.demo_file("demo-search")))
     >>> result
-    <DesignResult of ...: best single-two-way, radius 8.01 m, 3 layouts searched>
+    <DesignResult of ...: best single-two-way, radius 8.010 m, 3 layouts searched>
     >>> [(o.layout, o.feasible) for o in result.options]
     [('single-two-way', True), ('concentric', False), ('double', False)]
     """

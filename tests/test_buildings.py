@@ -380,7 +380,7 @@ def test_split_storey(tmp_path, capsys):
     assert status == 0
 
 
-_NEED = re.compile(r"a footprint of at least ([\d.]+) m x ([\d.]+) m \(now 12\.00 m x 12\.00 m\)")
+_NEED = re.compile(r"a footprint of at least ([\d.]+) m x ([\d.]+) m \(now 12\.000 m x 12\.000 m\)")
 
 
 def test_plot_too_small(tmp_path, capsys):

@@ -64,7 +64,7 @@ CASES = {
     "radius below lane width": (lambda d: _set(d, ["design", "centre_radius"], "3 m"),
                                 "design.centre_radius",
                                 ["got '3 m'", "expected a centre-line radius larger than the "
-                                 "carriageway width (3.65 m)"]),
+                                 "carriageway width (3.650 m)"]),
     "levels out of order": (lambda d: _set(d, ["levels", 2], {"name": "Level 2", "level": "1.0 m"}),
                             "levels[2].level", ["not above Level 1", "expected levels in ascending order"]),
     "unknown rule set": (lambda d: _set(d, ["rules"], "istructe-2012"), "rules",
