@@ -150,6 +150,18 @@ def _overhead(profiles: list[BatchProfile], i: int, start_bearings: list[float],
     return overhead
 
 
+def _critical_grid(profiles: list[BatchProfile], i: int, start_bearings: list[float], hand: int,
+                   same_annulus: bool, spans) -> tuple[list[tuple[BatchProfile, float]], np.ndarray]:
+    """The surfaces overhead of thread ``i`` and its critical angles (C, K), sorted: its
+    breakpoints and every overhead one, shifted, clipped to the span measured."""
+    p = profiles[i]
+    overhead = _overhead(profiles, i, start_bearings, hand, same_annulus)
+    pts = [p.t] + [u.t - shift for u, shift in overhead]
+    grid = np.sort(np.concatenate(pts, axis=1), axis=1)
+    lo, hi = (p.start, p.end) if spans is None else spans[i]
+    return overhead, np.clip(grid, lo[:, None], hi[:, None])
+
+
 def _pieces(bp: BatchProfile, theta_mid: np.ndarray) -> tuple[np.ndarray, ...]:
     """Coefficients ``(t, z0, k, q)`` (C, W) of the segment of ``bp`` under each piece,
     located once by the piece's midpoint: on a piece between consecutive critical angles
@@ -199,11 +211,7 @@ def batch_min_headroom(profiles: list[BatchProfile], start_bearings: list[float]
     best = np.full(c, np.inf)
     eps = 1e-9
     for i, p in enumerate(profiles):
-        overhead = _overhead(profiles, i, start_bearings, hand, same_annulus)
-        pts = [p.t] + [u.t - shift for u, shift in overhead]
-        grid = np.sort(np.concatenate(pts, axis=1), axis=1)
-        lo, hi = (p.start, p.end) if spans is None else spans[i]
-        grid = np.clip(grid, lo[:, None], hi[:, None])
+        overhead, grid = _critical_grid(profiles, i, start_bearings, hand, same_annulus, spans)
         left, right = grid[:, :-1], grid[:, 1:]
         mid = 0.5 * (left + right)
         width = right - left
@@ -274,12 +282,7 @@ def batch_min_headroom_reference(profiles: list[BatchProfile], start_bearings: l
     c = profiles[0].t.shape[0]
     best = np.full(c, np.inf)
     for i, p in enumerate(profiles):
-        overhead = _overhead(profiles, i, start_bearings, hand, same_annulus)
-        # Critical angles on thread i: its breakpoints and every overhead one, shifted.
-        pts = [p.t] + [u.t - shift for u, shift in overhead]
-        grid = np.sort(np.concatenate(pts, axis=1), axis=1)
-        lo, hi = (p.start, p.end) if spans is None else spans[i]
-        grid = np.clip(grid, lo[:, None], hi[:, None])
+        overhead, grid = _critical_grid(profiles, i, start_bearings, hand, same_annulus, spans)
         eps = 1e-9
 
         def nearest_gap(theta):
