@@ -118,7 +118,7 @@ def sweep(project: Project, centre_radius: Sequence[float] | float | None = None
             m = margins[:, n]
             failed = tuple(k for k, v in zip(names, m) if not v >= -1e-9)
             finite = [(v, k) for k, v in zip(names, m) if math.isfinite(v)]
-            results[(r, *combo)] = {
+            results[(r,) + tuple(combo)] = {
                 "diameter": float(sc.diameter[n]),
                 "gradient_inner": float(sc.steepest["inner"][n]),
                 "gradient_centre": float(sc.steepest["centre"][n]),
@@ -133,11 +133,11 @@ def sweep(project: Project, centre_radius: Sequence[float] | float | None = None
         for combo in itertools.product(*(lists[k] for k in groups)):
             row: dict[str, Any] = {"centre_radius": r}
             row.update(zip(groups, combo))
-            row.update(results[(r, *combo)])
+            row.update(results[(r,) + tuple(combo)])
             rows.append(row)
     if as_frame:
         try:
-            import pandas as pd
+            import pandas as pd  # type: ignore[import-untyped, import-not-found, unused-ignore]
         except ImportError:
             raise ImportError("sweep(as_frame=True) needs pandas, which helix does not install; "
                               "pip install pandas, or use the list of dicts") from None
