@@ -34,10 +34,11 @@ _LAZY = {
     "DesignResult": "search", "design": "search",
     "RuleSet": "rules", "Vehicle": "vehicle",
     "demo_file": "library_files",
+    "sweep": "sweep",
 }
 
 __all__ = ["load_project", "evaluate", "design", "Project", "Evaluation", "DesignResult", "Vehicle",
-           "RuleSet", "build_helix", "demo_file", "InputError", "DesignError", "OutputError",
+           "RuleSet", "build_helix", "demo_file", "sweep", "InputError", "DesignError", "OutputError",
            "DIST_NAME", "__version__"]
 
 if TYPE_CHECKING:  # what mypy and editors see; at run time, __getattr__ below
@@ -48,6 +49,7 @@ if TYPE_CHECKING:  # what mypy and editors see; at run time, __getattr__ below
     from .project import Project, load_project
     from .rules import RuleSet
     from .search import DesignResult, design
+    from .sweep import sweep
     from .vehicle import Vehicle
 
 
@@ -65,11 +67,11 @@ def __dir__() -> list[str]:
 
 
 class _Package(types.ModuleType):
-    """``helix.evaluate`` is the function, as it always was, although a module of the
-    same name exists: importing that module must not rebind the package's name."""
+    """``helix.evaluate`` and ``helix.sweep`` are the functions, although modules of the
+    same names exist: importing those modules must not rebind the package's names."""
 
     def __setattr__(self, name: str, value: Any) -> None:
-        if name == "evaluate" and isinstance(value, types.ModuleType):
+        if name in ("evaluate", "sweep") and isinstance(value, types.ModuleType):
             return
         super().__setattr__(name, value)
 

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -54,9 +55,19 @@ class Profile:
     def end(self) -> float:
         return float(self.t[-1])
 
+    @cached_property
+    def _interior(self) -> np.ndarray:
+        # Searching the interior breakpoints gives the segment index already clipped to
+        # [0, segments - 1] (what searchsorted(t) - 1 and a clip would give), in one call:
+        # level and slope are called many thousands of times per evaluation.
+        return np.ascontiguousarray(self.t[1:-1])
+
+    @cached_property
+    def _bounds(self) -> tuple[float, float]:
+        return float(self.t[0]) - 1e-12, float(self.t[-1]) + 1e-12
+
     def _segment(self, theta: np.ndarray) -> np.ndarray:
-        j = np.searchsorted(self.t, theta, side="right") - 1
-        return np.clip(j, 0, len(self.k) - 1)
+        return self._interior.searchsorted(theta, side="right")
 
     def level(self, theta) -> np.ndarray:
         """Level at plan angle ``theta`` (radians); NaN outside the thread."""
@@ -64,16 +75,16 @@ class Profile:
         j = self._segment(th)
         u = th - self.t[j]
         z = self.z0[j] + self.k[j] * u + 0.5 * self.q[j] * u * u
-        inside = (th >= self.t[0] - 1e-12) & (th <= self.t[-1] + 1e-12)
-        return np.where(inside, z, np.nan)
+        lo, hi = self._bounds
+        return np.where((th >= lo) & (th <= hi), z, np.nan)
 
     def slope(self, theta) -> np.ndarray:
         """dz/dtheta in metres per radian (right-hand value at a breakpoint)."""
         th = np.asarray(theta, dtype=float)
         j = self._segment(th)
         s = self.k[j] + self.q[j] * (th - self.t[j])
-        inside = (th >= self.t[0] - 1e-12) & (th <= self.t[-1] + 1e-12)
-        return np.where(inside, s, np.nan)
+        lo, hi = self._bounds
+        return np.where((th >= lo) & (th <= hi), s, np.nan)
 
     def slope_range(self, j: int) -> tuple[float, float]:
         """Smallest and largest slope on segment ``j`` (a vertical curve varies)."""

@@ -40,7 +40,7 @@ import numpy as np
 
 from .errors import Node
 from .geometry import TWO_PI, Helix, Thread
-from .roots import brent_minimum
+from .roots import brent_minimum_many
 
 __all__ = ["Approach", "ApproachLine", "ApproachResult", "parse_approach", "approach_lines",
            "overhead_clear", "measure_approach", "APPROACH_SIDES"]
@@ -125,7 +125,7 @@ class ApproachLine:
     def length(self) -> float:
         return float(np.sum(np.hypot(*np.diff(self.vertices, axis=0).T)))
 
-    def at(self, d, offset: float = 0.0) -> tuple[np.ndarray, np.ndarray]:
+    def at(self, d, offset=0.0) -> tuple[np.ndarray, np.ndarray]:
         """Plan points ``d`` along the line, ``offset`` to its left (m)."""
         d = np.atleast_1d(np.asarray(d, float))
         seg = np.diff(self.vertices, axis=0)
@@ -135,7 +135,8 @@ class ApproachLine:
         u = seg[j] / lens[j][:, None]
         p = self.vertices[j] + u * (d - ends[j])[:, None]
         normal = np.stack([-u[:, 1], u[:, 0]], axis=1)
-        p = p + offset * normal
+        # ``offset``: one for all points, or one per point.
+        p = p + np.asarray(offset, float)[..., None] * normal
         return p[:, 0], p[:, 1]
 
     def aisle_level(self, d) -> np.ndarray:
@@ -260,23 +261,41 @@ def measure_approach(helix: Helix, structure, line: ApproachLine) -> ApproachRes
     exclude = (line.thread, line.connection)
     length = line.length
     grid = np.linspace(0.0, length, max(int(math.ceil(length / _STEP)), 1) + 1)
-    best = (math.inf, 0.0, 0.0)
-    for off in (-0.5 * line.lane_width, 0.0, 0.5 * line.lane_width):
-        def f(d, off=off):
-            x, y = line.at(d, off)
-            return overhead_clear(helix, structure, x, y, line.aisle_level(d), exclude)[0]
-        c = f(grid)
+    offsets = np.array([-0.5 * line.lane_width, 0.0, 0.5 * line.lane_width])
+
+    def f(d, off):
+        x, y = line.at(d, off)
+        return overhead_clear(helix, structure, x, y, line.aisle_level(d), exclude)[0]
+
+    # The grid of all three lines in one call; then the three refinements in lockstep
+    # (the same Brent steps as one at a time, sharing the calls).
+    n = len(grid)
+    c_all = f(np.tile(grid, 3), np.repeat(offsets, n)).reshape(3, n)
+    rows, lo, hi, start = [], [], [], []
+    for i in range(3):
+        c = c_all[i]
         if not np.any(np.isfinite(c)):
             continue
         k = int(np.argmin(c))
-        lo, hi = grid[max(k - 1, 0)], grid[min(k + 1, len(grid) - 1)]
-        d_min, c_min = float(grid[k]), float(c[k])
-        if hi > lo:
-            x_m, f_m = brent_minimum(lambda s: float(f(np.array([s]))[0]), float(lo), float(hi), xtol=1e-6)
-            if f_m < c_min:
-                d_min, c_min = float(x_m), float(f_m)
+        rows.append(i)
+        lo.append(grid[max(k - 1, 0)])
+        hi.append(grid[min(k + 1, len(grid) - 1)])
+        start.append((float(grid[k]), float(c[k])))
+    rows_a = np.array(rows, int)
+    refine = np.array([h > l_ for l_, h in zip(lo, hi)], bool)
+    if np.any(refine):
+        sel = rows_a[refine]
+        x_m, f_m = brent_minimum_many(lambda idx, s: f(s, offsets[sel[idx]]),
+                                      np.array(lo)[refine], np.array(hi)[refine], xtol=1e-6)
+        found = dict(zip(sel.tolist(), zip(x_m.tolist(), f_m.tolist())))
+    else:
+        found = {}
+    best = (math.inf, 0.0, 0.0)
+    for i, (d_min, c_min) in zip(rows, start):
+        if i in found and found[i][1] < c_min:
+            d_min, c_min = found[i]
         if c_min < best[0]:
-            best = (c_min, d_min, off)
+            best = (c_min, d_min, float(offsets[i]))
     clear, d, off = best
     above = "nothing"
     if math.isfinite(clear):

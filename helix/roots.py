@@ -17,7 +17,9 @@ from __future__ import annotations
 import math
 from typing import Callable
 
-__all__ = ["brent_root", "brent_minimum", "RootError"]
+import numpy as np
+
+__all__ = ["brent_root", "brent_minimum", "brent_minimum_many", "RootError"]
 
 _EPS = 2.220446049250313e-16
 
@@ -126,4 +128,67 @@ def brent_minimum(f: Callable[[float], float], a: float, b: float, xtol: float =
                 v, fv, w, fw = w, fw, u, fu
             elif fu <= fv or v == x or v == w:
                 v, fv = u, fu
+    return x, fx
+
+
+def brent_minimum_many(f: Callable, a, b, xtol: float = 1e-6,
+                       maxiter: int = 200) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`brent_minimum` on many independent intervals ``[a_i, b_i]`` in lockstep:
+    ``f`` takes the indices of the intervals still searching and one abscissa for each,
+    and returns their values.  Every interval follows exactly the steps the scalar
+    routine takes on it (the same arithmetic, element by element), so the results are
+    the scalar ones; only the calls of ``f`` are shared."""
+    a = np.array(a, float, copy=True, ndmin=1)
+    b = np.array(b, float, copy=True, ndmin=1)
+    golden = 0.5 * (3 - math.sqrt(5))
+    x = a + golden * (b - a)
+    w, v = x.copy(), x.copy()
+    idx = np.arange(len(a))
+    fx = np.asarray(f(idx, x), float).copy()
+    fw, fv = fx.copy(), fx.copy()
+    d = np.zeros(len(a))
+    e = np.zeros(len(a))
+    active = np.ones(len(a), bool)
+    sq = math.sqrt(_EPS)
+    for _ in range(maxiter):
+        mid = 0.5 * (a + b)
+        tol1 = sq * np.abs(x) + xtol / 3
+        tol2 = 2 * tol1
+        active &= ~(np.abs(x - mid) <= tol2 - 0.5 * (b - a))
+        if not np.any(active):
+            break
+        with np.errstate(invalid="ignore", divide="ignore"):
+            r = (x - w) * (fx - fv)
+            q = (x - v) * (fx - fw)
+            p = (x - v) * q - (x - w) * r
+            q = 2 * (q - r)
+            p = np.where(q > 0, -p, p)
+            q = np.abs(q)
+            para = ((np.abs(e) > tol1) & (np.abs(p) < np.abs(0.5 * q * e))
+                    & (q * (a - x) < p) & (p < q * (b - x)))
+            d_para = p / q
+        u_para = x + d_para
+        d_para = np.where((u_para - a < tol2) | (b - u_para < tol2), np.copysign(tol1, mid - x), d_para)
+        e_gold = np.where(x >= mid, a, b) - x
+        e_new = np.where(para, d, e_gold)
+        d_new = np.where(para, d_para, golden * e_gold)
+        e = np.where(active, e_new, e)
+        d = np.where(active, d_new, d)
+        u = x + np.where(np.abs(d) >= tol1, d, np.copysign(tol1, d))
+        live = np.flatnonzero(active)
+        fu = fx.copy()
+        fu[live] = f(live, u[live])
+        better = active & (fu <= fx)
+        worse = active & ~(fu <= fx)
+        a = np.where(better & (u >= x), x, np.where(worse & (u < x), u, a))
+        b = np.where(better & ~(u >= x), x, np.where(worse & ~(u < x), u, b))
+        to_w = worse & ((fu <= fw) | (w == x))
+        to_v = worse & ~to_w & ((fu <= fv) | (v == x) | (v == w))
+        v_new = np.where(better | to_w, w, np.where(to_v, u, v))
+        fv_new = np.where(better | to_w, fw, np.where(to_v, fu, fv))
+        w_new = np.where(better, x, np.where(to_w, u, w))
+        fw_new = np.where(better, fx, np.where(to_w, fu, fw))
+        x = np.where(better, u, x)
+        fx = np.where(better, fu, fx)
+        v, fv, w, fw = v_new, fv_new, w_new, fw_new
     return x, fx

@@ -31,7 +31,7 @@ from typing import Callable
 import numpy as np
 
 from .alignment import Profile
-from .roots import brent_minimum, brent_root
+from .roots import brent_minimum_many, brent_root
 from .vehicle import Vehicle
 
 __all__ = ["PathProfile", "GroundContact", "place", "body_clearances", "minimum_clearance",
@@ -252,15 +252,30 @@ def minimum_clearance(vehicle: Vehicle, path: PathProfile, soffit: Callable | No
     if not found:
         return {}
     floor = min(f[0] for f in found)
+    # Refine every part near the floor by Brent's method, the parts of one facing in
+    # lockstep (the same steps as one at a time; body_clearances gives all parts at once).
+    refined: dict[int, tuple[float, float]] = {}
+    for facing in facings:
+        jobs = [i for i, (grid_c, part, fc, s0) in enumerate(found)
+                if fc == facing and min(hi, s0 + step) > max(lo, s0 - step)
+                and (focus is None or grid_c <= floor + focus)]
+        if not jobs:
+            continue
+        parts = [found[i][1] for i in jobs]
+        a = np.array([max(lo, found[i][3] - step) for i in jobs])
+        b = np.array([min(hi, found[i][3] + step) for i in jobs])
+
+        def f(idx, s, facing=facing, parts=parts):
+            res = body_clearances(vehicle, path, s, facing, soffit)
+            return np.array([res[parts[int(j)]][0][n] for n, j in enumerate(idx)])
+
+        x_min, f_min = brent_minimum_many(f, a, b, xtol=1e-6)
+        refined.update(zip(jobs, zip(x_min.tolist(), f_min.tolist())))
     result: dict[str, GroundContact] = {}
-    for grid_c, part, facing, s0 in found:
+    for i, (grid_c, part, facing, s0) in enumerate(found):
         best_s, best_c = s0, grid_c
-        a, b = max(lo, s0 - step), min(hi, s0 + step)
-        if b > a and (focus is None or grid_c <= floor + focus):
-            f = lambda s: float(body_clearances(vehicle, path, [s], facing, soffit)[part][0][0])
-            x_min, f_min = brent_minimum(f, a, b, xtol=1e-6)
-            if f_min < best_c:
-                best_s, best_c = float(x_min), float(f_min)
+        if i in refined and refined[i][1] < best_c:
+            best_s, best_c = refined[i]
         point = float(body_clearances(vehicle, path, [best_s], facing, soffit)[part][1][0])
         if part not in result or best_c < result[part].clearance:
             result[part] = GroundContact(part, best_c, best_s, point, facing)
