@@ -76,13 +76,15 @@ def _parser() -> argparse.ArgumentParser:
                            formatter_class=argparse.RawDescriptionHelpFormatter)
     check.add_argument("project", help=PROJECT_HELP)
     check.add_argument("-o", "--output", metavar="DIR",
-                       help="also write the figures (PNG and SVG), setting_out.csv and result.json to DIR")
+                       help="also write the report, figures (PNG and SVG), setting_out.csv, plan.dxf and "
+                            "result.json to DIR (see --formats)")
     check.add_argument("--json", action="store_true", help="print the result as JSON instead of a table")
     check.add_argument("--rules", metavar="A,B,...", default=None,
                        help="also check the design against these rule sets (one column each)")
     check.add_argument("--stations", metavar="LENGTH", default=None,
                        help="spacing of the setting-out stations written with -o (default 5 m, "
                             "or 10 ft for a project in feet; at least 0.1 m)")
+    _output_options(check)
     check.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                        help="on an internal error print the traceback; show warnings")
     dsg = sub.add_parser("design", help="search the layouts, radii and turns of a project file",
@@ -96,6 +98,7 @@ def _parser() -> argparse.ArgumentParser:
                           "Pareto figure to DIR")
     dsg.add_argument("--json", action="store_true", help="print the options as JSON instead of a table")
     dsg.add_argument("--stations", metavar="LENGTH", default=None, help="setting-out station spacing")
+    _output_options(dsg)
     dsg.add_argument("--rules", metavar="A,B,...", default=None,
                      help="also check the chosen design against these rule sets")
     dsg.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
@@ -108,6 +111,20 @@ def _parser() -> argparse.ArgumentParser:
     lib.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                      help="on an internal error print the traceback; show warnings")
     return parser
+
+
+def _output_options(sub: argparse.ArgumentParser) -> None:
+    """``--formats`` and ``--dpi``, read from the one table in :mod:`helix.formats`."""
+    from .formats import DEFAULT, DEFAULT_DPI, FORMATS, MAX_DPI, MIN_DPI
+    sub.add_argument("--formats", metavar="A,B,...", default=None,
+                     help="what -o writes, from: " + "; ".join(
+                         f"{f.name}: {f.writes}" + (f" (needs the '{f.extra}' extra)" if f.extra else "")
+                         for f in FORMATS.values())
+                     + f".  Default {','.join(DEFAULT)}: everything a design report is handed over with "
+                       "(dxf only where its extra is installed)")
+    sub.add_argument("--dpi", metavar="N", default=None,
+                     help=f"PNG resolution, {MIN_DPI} to {MAX_DPI} (default {DEFAULT_DPI}: sharp on screen and "
+                          "in half the time of 300; the PDF and SVG are vectors for print; 300 for a print raster)")
 
 
 def __getattr__(name: str) -> Any:
@@ -166,6 +183,7 @@ def _check(args: argparse.Namespace) -> int:
     from .outputs import write_outputs
     from .results import check_table, to_json
 
+    formats, dpi = _output_choice(args)
     project = _load(args.project)
     if project.search is not None and not project.search.fixed:
         raise InputError(project.file, "design", "has search ranges or choices; expected one fixed "
@@ -176,7 +194,7 @@ def _check(args: argparse.Namespace) -> int:
     text = to_json(_result_data(result, comparisons))
     if args.output:
         # Everything is made in memory first: a failure half-way writes nothing.
-        files = _check_outputs(result, project, args.stations, comparisons)
+        files = _check_outputs(result, project, args.stations, comparisons, formats=formats, dpi=dpi)
         write_outputs(Path(args.output), files)
     if args.json:
         sys.stdout.write(text)
@@ -218,34 +236,57 @@ def _result_data(result, comparisons) -> dict:
     return data
 
 
-def _check_outputs(result, project, stations, comparisons=(), option=None, search=None) -> dict[str, bytes]:
+def _output_choice(args: argparse.Namespace) -> tuple[tuple[str, ...], int]:
+    """The formats and PNG resolution of ``-o``, checked before any work is done."""
+    from .formats import parse_dpi, parse_formats
+    return parse_formats(getattr(args, "formats", None)), parse_dpi(getattr(args, "dpi", None))
+
+
+def _check_outputs(result, project, stations, comparisons=(), option=None, search=None,
+                   formats: tuple[str, ...] | None = None, dpi: int | None = None,
+                   figures: dict | None = None) -> dict[str, bytes]:
+    """Every file of ``-o`` in ``formats`` for design ``result``; ``figures`` holds
+    figures drawn already (the search's pareto and options), saved with the rest."""
     _use_agg()
-    from .cad import dxf_available, plan_dxf
-    from .figures import start_render
-    from .report import report_files
+    from .formats import DEFAULT_DPI, FORMATS, parse_formats
     from .results import to_json
-    from .setting_out import setting_out_csv
-    import matplotlib.pyplot as plt
+    formats = parse_formats(None) if formats is None else formats
+    dpi = DEFAULT_DPI if dpi is None else dpi
     spacing = _station_spacing(stations, project.units)
-    figs: dict = {}
+    figs: dict = dict(figures or {})
+    files: dict[str, bytes] = {}
     job = None
     try:
-        # Each figure is drawn once; its PNG is rasterised in a second process while
-        # this one writes the SVGs, the tables and the PDF.
-        files, job = start_render(result, figs)
-        files["setting_out.csv"] = setting_out_csv(result, spacing).encode()
-        files["result.json"] = to_json(_result_data(result, list(comparisons))).encode()
-        files.update(report_files(result, option=option, result=search, comparisons=list(comparisons),
-                                  spacing=spacing, figures=figs))
-        files.update(job.result())
-        job = None
+        if {"png", "svg", "pdf"} & set(formats):
+            # Each figure is drawn once and saved as often as asked: its PNG and SVG in
+            # other processes while this one lays out and writes the PDF.
+            from .figures import start_render
+            files, job = start_render(result, figs, formats, dpi)
+        if "csv" in formats:
+            from .setting_out import setting_out_csv
+            files["setting_out.csv"] = setting_out_csv(result, spacing).encode()
+        if "json" in formats:
+            files["result.json"] = to_json(_result_data(result, list(comparisons))).encode()
+        if {"pdf", "md"} & set(formats):
+            from .report import report_files
+            report = report_files(result, option=option, result=search, comparisons=list(comparisons),
+                                  spacing=spacing, figures=figs, formats=formats)
+            files.update(report)
+        if "dxf" in formats:
+            from .cad import plan_dxf
+            files["plan.dxf"] = plan_dxf(result)
+        for name in formats:
+            writer = FORMATS[name].writer
+            if writer is not None:
+                files.update(writer(result))
+        if job is not None:
+            files.update(job.result())
+            job = None
     finally:
         if job is not None:
-            job.result()  # reap the child even when this run fails
+            job.result()  # reap the children even when this run fails
         for fig in figs.values():
-            plt.close(fig)
-    if dxf_available():
-        files["plan.dxf"] = plan_dxf(result)
+            fig.clear()  # sheets are not registered with pyplot: clearing frees them
     return files
 
 
@@ -254,6 +295,7 @@ def _design(args: argparse.Namespace) -> int:
     from .results import design_dict, design_table, to_json
     from .search import design
 
+    formats, dpi = _output_choice(args)
     project = _load(args.project)
     with _design_errors(project, "a search space whose designs can be built"):
         result = design(project)
@@ -262,15 +304,22 @@ def _design(args: argparse.Namespace) -> int:
         _use_agg()
         from .figures import figure_bytes, options_figure, pareto_figure
         files: dict[str, bytes] = {}
+        # The search's two figures are drawn once: saved as PNG and SVG and placed in the
+        # PDF from the same Figure objects.
+        search_figs = ({"pareto": pareto_figure(result), "options": options_figure(result)}
+                       if {"png", "svg", "pdf"} & set(formats) else {})
         if result.best is not None:
             best = result.options[result.best]
             assert best.evaluation is not None  # the best option is a checked design
             comparisons = _comparisons(best.evaluation.project, best.evaluation.helix, args.rules)
             files.update(_check_outputs(best.evaluation, best.evaluation.project, args.stations, comparisons,
-                                        option=best, search=result))
-        files.update(figure_bytes("pareto", pareto_figure(result)))
-        files.update(figure_bytes("options", options_figure(result)))
-        files["design.json"] = text.encode()
+                                        option=best, search=result, formats=formats, dpi=dpi,
+                                        figures=search_figs))
+        else:
+            for name, fig in search_figs.items():
+                files.update(figure_bytes(name, fig, formats, dpi))
+        if "json" in formats:
+            files["design.json"] = text.encode()
         write_outputs(Path(args.output), files)
     if args.json:
         sys.stdout.write(text)

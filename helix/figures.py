@@ -31,13 +31,14 @@ from matplotlib.text import Annotation, Text
 
 from .clearance import headroom
 from .evaluate import Evaluation
+from .formats import DEFAULT_DPI as PNG_DPI  # PNG resolution unless told (the reason is there)
 from .sheet import (MIN_FONT_PT, POINT_MM, SCALES, Sheet, axes_mm, choose_scale, fit_text, mm, new_sheet, north_point,
                     set_true_scale, title_block)
 from .site_grid import grid_bearing, north_angle
 from .units import FOOT, format_length, format_level
 
 __all__ = ["plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "pareto_figure",
-           "gradient_figure", "figure_bytes", "FIGURES", "start_render", "PngJob", "render_all",
+           "gradient_figure", "figure_bytes", "FIGURES", "start_render", "RenderJob", "PngJob", "PNG_DPI", "render_all",
            "STYLE", "PALETTE", "SHEET_OF", "A4_LANDSCAPE", "drawing_scale", "section_cut_bearing", "drawn_texts",
            "turns_at"]
 
@@ -1104,20 +1105,21 @@ def gradient_figure(ev: Evaluation) -> Figure:
         _note(fig, 194.0, 110.0, _wrap_lines(lines, 90.0, SMALL), linespacing=1.25)
         _declutter(fig)
     return fig
-def _savefig(fig, fmt: str) -> bytes:
+def _savefig(fig, fmt: str, dpi: int = PNG_DPI) -> bytes:
     buf = io.BytesIO()
     meta = {"Date": None} if fmt == "svg" else ({"Software": None} if fmt == "png" else
                                                  {"CreationDate": None, "ModDate": None})
     extra = {"pil_kwargs": {"compress_level": 1}} if fmt == "png" else {}
-    fig.savefig(buf, format=fmt, dpi=300 if fmt == "png" else 72, metadata=meta, **extra)
+    fig.savefig(buf, format=fmt, dpi=dpi if fmt == "png" else 72, metadata=meta, **extra)
     return buf.getvalue()
 
 
-def _save(fig, fmt: str) -> bytes:
-    """``fig`` as ``fmt`` bytes; a figure the renderer cannot draw (a glyph or path
-    beyond its raster at the scale of the site, say) becomes a page that says so."""
+def _save(fig, fmt: str, dpi: int = PNG_DPI) -> bytes:
+    """``fig`` as ``fmt`` bytes (PNG at ``dpi``); a figure the renderer cannot draw (a
+    glyph or path beyond its raster at the scale of the site, say) becomes a page that
+    says so."""
     try:
-        return _savefig(fig, fmt)
+        return _savefig(fig, fmt, dpi)
     except (RuntimeError, ValueError, OverflowError) as exc:
         title = getattr(fig, "_helix_title", "figure")
         with _styled():  # the title holds user text: no mathtext here either
@@ -1127,14 +1129,15 @@ def _save(fig, fmt: str) -> bytes:
             note.text(0.5, 0.5, "This figure cannot be drawn at the scale of this site and helix\n"
                       f"(the renderer stopped: {type(exc).__name__}). The checks and tables are unaffected.",
                       ha="center", va="center", fontsize=11)
-            return _savefig(note, fmt)
+            return _savefig(note, fmt, dpi)
 
 
-def figure_bytes(name: str, fig) -> dict[str, bytes]:
-    """``fig`` as ``name.png`` (300 dpi) and ``name.svg``; the figure is closed."""
+def figure_bytes(name: str, fig, formats: tuple[str, ...] = ("png", "svg"), dpi: int = PNG_DPI) -> dict[str, bytes]:
+    """``fig`` as ``name.png`` (at ``dpi``) and ``name.svg`` (those of ``formats``); the
+    figure is closed."""
     try:
         with _styled():
-            return {f"{name}.png": _save(fig, "png"), f"{name}.svg": _save(fig, "svg")}
+            return {f"{name}.{fmt}": _save(fig, fmt, dpi) for fmt in ("png", "svg") if fmt in formats}
     finally:
         _close(fig)
 
@@ -1149,90 +1152,122 @@ FIGURES = (
 )
 
 
-def render_all(ev: Evaluation, keep: dict | None = None) -> dict[str, bytes]:
-    """Every figure of one design as PNG (300 dpi) and SVG, keyed by file name.
+def render_all(ev: Evaluation, keep: dict | None = None, formats: tuple[str, ...] = ("png", "svg"),
+               dpi: int = PNG_DPI) -> dict[str, bytes]:
+    """Every figure of one design as PNG (at ``dpi``) and SVG (those of ``formats``),
+    keyed by file name.
 
     With ``keep`` (a dict), the figures stay open in it by name, for the PDF report to
     use without drawing them again; the caller closes them."""
-    if keep is None:
-        out: dict[str, bytes] = {}
-        for name, make, _ in FIGURES:
-            out.update(figure_bytes(name, make(ev)))
+    figs: dict = {} if keep is None else keep
+    try:
+        out, job = start_render(ev, figs, formats, dpi)
+        out.update(job.result())
         return out
-    out, job = start_render(ev, keep)
-    out.update(job.result())
-    return out
+    finally:
+        if keep is None:
+            for fig in figs.values():
+                _close(fig)
 
 
-def start_render(ev: Evaluation, keep: dict) -> tuple[dict[str, bytes], "PngJob"]:
-    """Draw every figure into ``keep``, return their SVGs and a running :class:`PngJob`
-    for the PNGs: the caller works on (the PDF, say) and then collects them."""
-    svg: dict[str, bytes] = {}
+def start_render(ev: Evaluation, keep: dict, formats: tuple[str, ...] = ("png", "svg"),
+                 dpi: int = PNG_DPI) -> tuple[dict[str, bytes], "RenderJob"]:
+    """Draw every figure of ``ev`` into ``keep`` (figures already in it, say the
+    search's, are kept and saved too) and start a :class:`RenderJob` for their files in
+    ``formats`` (``png``, ``svg``): each figure is drawn once and saved as often as
+    needed.  Returns the files made here (none, when the job has a process of its own)
+    and the job; the caller works on (the PDF, say) and then collects it."""
     for name, make, _ in FIGURES:
-        keep[name] = make(ev)
-    job = PngJob(keep)
-    with _styled():
-        for name in keep:
-            svg[f"{name}.svg"] = _save(keep[name], "svg")
-    return svg, job
+        if name not in keep:
+            keep[name] = make(ev)
+    job = RenderJob(keep, tuple(f for f in ("png", "svg") if f in formats), dpi)
+    return {}, job
 
 
-class PngJob:
-    """Rasterise figures to 300-dpi PNG in a forked child process while the parent goes
-    on (SVG, PDF): the rasterising is the slowest part of a report, and a second core
-    halves the wall time.  Where fork is not available, or the child fails, the PNGs
-    are made here instead.  Call :meth:`result` once."""
+def _workers(tasks: int) -> int:
+    """Processes to rasterise in: every core but the one the caller keeps for the PDF."""
+    import os
+    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+    return max(0, min(tasks, cores - 1, 8))
 
-    def __init__(self, figs: dict):
+
+class RenderJob:
+    """Save figures as PNG and SVG in forked child processes while the parent goes on
+    (the PDF): the rasterising is the slowest part of a report, and each further core
+    takes a share of it.  The tasks (figure, format) are dealt to the workers by their
+    expected cost, largest first; each child sends its files back through a pipe.
+    Where fork is not available, on one core, or when a child fails, the files are made
+    in this process instead: the bytes are the same either way.  Call :meth:`result`
+    once."""
+
+    def __init__(self, figs: dict, formats: tuple[str, ...] = ("png", "svg"), dpi: int = PNG_DPI):
         import os
         self.figs = dict(figs)
-        self.pid = None
-        self.read_fd = None
-        if not hasattr(os, "fork"):
+        self.dpi = dpi
+        self.tasks = [(n, f) for n in self.figs for f in formats]
+        self.children: list[tuple[int, int, list[tuple[str, str]]]] = []
+        workers = _workers(len(self.tasks)) if hasattr(os, "fork") else 0
+        if workers == 0:
             return
-        try:
-            r, w = os.pipe()
-            pid = os.fork()
-        except OSError:
-            return
-        if pid == 0:  # child: render, send, exit without running the parent's cleanup
-            code = 1
+        # A PNG costs about five SVGs at 150 dpi and more above; A3 about twice A4.
+        cost = lambda t: (5.0 * (dpi / 150.0) ** 2 if t[1] == "png" else 1.0) * (2.0 if SHEET_OF.get(t[0]) == "A3" else 1.0)
+        shares: list[list[tuple[str, str]]] = [[] for _ in range(workers)]
+        loads = [0.0] * workers
+        for task in sorted(self.tasks, key=cost, reverse=True):
+            k = loads.index(min(loads))
+            shares[k].append(task)
+            loads[k] += cost(task)
+        for share in shares:
             try:
-                import pickle
-                os.close(r)
-                with _styled():
-                    data = pickle.dumps({f"{n}.png": _save(f, "png") for n, f in self.figs.items()})
-                view = memoryview(data)
-                while view:
-                    view = view[os.write(w, view):]
-                code = 0
-            finally:
-                os._exit(code)
-        os.close(w)
-        self.pid, self.read_fd = pid, r
+                r, w = os.pipe()
+                pid = os.fork()
+            except OSError:
+                break
+            if pid == 0:  # child: render, send, exit without running the parent's cleanup
+                code = 1
+                try:
+                    import pickle
+                    os.close(r)
+                    data = pickle.dumps(self._render(share))
+                    view = memoryview(data)
+                    while view:
+                        view = view[os.write(w, view):]
+                    code = 0
+                finally:
+                    os._exit(code)
+            os.close(w)
+            self.children.append((pid, r, share))
+
+    def _render(self, tasks: list[tuple[str, str]]) -> dict[str, bytes]:
+        with _styled():
+            return {f"{n}.{f}": _save(self.figs[n], f, self.dpi) for n, f in tasks}
 
     def result(self) -> dict[str, bytes]:
         import os
         import pickle
-        if self.pid is not None and self.read_fd is not None:
+        out: dict[str, bytes] = {}
+        for pid, fd, share in self.children:
             chunks = []
             while True:
-                chunk = os.read(self.read_fd, 1 << 20)
+                chunk = os.read(fd, 1 << 20)
                 if not chunk:
                     break
                 chunks.append(chunk)
-            os.close(self.read_fd)
-            _, status = os.waitpid(self.pid, 0)
-            self.pid = None
+            os.close(fd)
+            _, status = os.waitpid(pid, 0)
             if os.WIFEXITED(status) and os.WEXITSTATUS(status) == 0:
                 try:
-                    return pickle.loads(b"".join(chunks))
+                    out.update(pickle.loads(b"".join(chunks)))
                 except Exception:  # a broken stream: make them here instead
                     pass
-        with _styled():
-            return {f"{n}.png": _save(f, "png") for n, f in self.figs.items()}
+        self.children = []
+        missing = [t for t in self.tasks if f"{t[0]}.{t[1]}" not in out]
+        out.update(self._render(missing))
+        return {f"{n}.{f}": out[f"{n}.{f}"] for n, f in self.tasks}
 
 
+#: The earlier name of :class:`RenderJob` (PNG files only).
+PngJob = RenderJob
 
 
 def _close(fig: Figure) -> None:

@@ -294,11 +294,11 @@ def test_a_figure_the_renderer_cannot_draw_says_so(monkeypatch):
     real = figures._savefig
     calls = {"n": 0}
 
-    def overflow(fig, fmt):
+    def overflow(fig, fmt, *dpi):
         calls["n"] += 1
         if calls["n"] == 1:
             raise RuntimeError("FT_Render_Glyph failed with error 0x62: raster overflow")
-        return real(fig, fmt)
+        return real(fig, fmt, *dpi)
 
     monkeypatch.setattr(figures, "_savefig", overflow)
     fig = plt.figure()

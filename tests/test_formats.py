@@ -1,0 +1,133 @@
+"""``-o`` with ``--formats`` and ``--dpi``: parsing, refusals, the files each format
+writes, PNG pixel size, and bytes that do not depend on how the figures were rendered."""
+import struct
+from pathlib import Path
+
+import pytest
+
+import helix
+from helix import cli, figures, formats
+from helix.cli import main
+from helix.formats import FORMATS, Format, parse_dpi, parse_formats
+
+CONFIGS = Path(__file__).resolve().parent.parent / "configs"
+DESIGN_FIGURES = ["plan", "section", "cross_section", "clearance", "gradient"]
+#: The files each format writes for 'helix check -o' (the README's list of outputs).
+CHECK_FILES = {
+    "pdf": {"report.pdf"},
+    "md": {"report.md"},
+    "png": {f"{n}.png" for n in DESIGN_FIGURES},
+    "svg": {f"{n}.svg" for n in DESIGN_FIGURES},
+    "dxf": {"plan.dxf"},
+    "csv": {"setting_out.csv"},
+    "json": {"result.json"},
+}
+
+
+def _written(folder: Path) -> set[str]:
+    return {p.name for p in folder.iterdir() if not p.name.startswith(".helix")}
+
+
+@pytest.fixture(scope="module")
+def metric():
+    project = helix.load_project(CONFIGS / "demo-metric.yaml")
+    return project, helix.evaluate(project)
+
+
+def test_parse_formats_keeps_table_order_and_ignores_case_and_spaces():
+    assert parse_formats(" SVG,pdf , png") == ("pdf", "png", "svg")
+    assert set(parse_formats(None)) == {n for n in formats.DEFAULT if FORMATS[n].available()}
+
+
+@pytest.mark.parametrize("option, value, expected", [
+    ("--formats", "pdf,xyz", "unknown format 'xyz'; expected a comma-separated list of pdf, md, png, svg, dxf, csv, json"),
+    ("--formats", ",", "expected a comma-separated list of"),
+    ("--dpi", "20", "expected a whole number of dots per inch from 50 to 600"),
+    ("--dpi", "high", "got 'high'"),
+])
+@pytest.mark.parametrize("command, project", [("check", "demo-metric.yaml"), ("design", "demo-search.yaml")])
+def test_bad_output_option_is_one_line_exit_2_and_writes_nothing(tmp_path, capsys, option, value, expected,
+                                                                   command, project):
+    out = tmp_path / "out"
+    status = main([command, str(CONFIGS / project), "-o", str(out), option, value])
+    err = capsys.readouterr().err
+    assert status == 2
+    assert err.count("\n") == 1 and err.startswith(f"helix: error: command line: {option}: ")
+    assert expected in err
+    assert not out.exists()
+
+
+def test_a_format_whose_extra_is_missing_is_refused_with_the_extra_to_install(monkeypatch, tmp_path, capsys):
+    # A row as the exports package adds them, needing a module that is not installed.
+    row = Format("ifc", "model.ifc", needs="helix_no_such_module", extra="bim")
+    monkeypatch.setitem(FORMATS, "ifc", row)
+    status = main(["check", str(CONFIGS / "demo-metric.yaml"), "-o", str(tmp_path / "o"), "--formats", "pdf,ifc"])
+    err = capsys.readouterr().err
+    assert status == 2 and err.count("\n") == 1
+    assert "format 'ifc' needs helix_no_such_module" in err and "helix-ramp-planner[bim]" in err
+    assert not (tmp_path / "o").exists()
+    assert "ifc" not in parse_formats(None)  # and the default leaves it out
+
+
+def test_a_format_row_with_a_writer_is_written(monkeypatch, metric):
+    project, ev = metric
+    monkeypatch.setitem(FORMATS, "txt", Format("txt", "levels.txt", writer=lambda e: {
+        "levels.txt": "\n".join(level.name for level in e.project.levels).encode()}))
+    files = cli._check_outputs(ev, project, None, formats=parse_formats("txt"))
+    assert set(files) == {"levels.txt"} and files["levels.txt"].startswith(b"Ground")
+
+
+@pytest.mark.parametrize("name", list(CHECK_FILES))
+def test_each_format_writes_exactly_its_files(name, metric):
+    project, ev = metric
+    if not FORMATS[name].available():
+        pytest.skip(f"{FORMATS[name].needs} not installed")
+    files = cli._check_outputs(ev, project, None, formats=(name,))
+    assert set(files) == CHECK_FILES[name]
+
+
+def test_design_formats_write_the_search_files_too(tmp_path, capsys):
+    out = tmp_path / "out"
+    status = main(["design", str(CONFIGS / "demo-search.yaml"), "-o", str(out), "--formats", "png,json"])
+    assert status == 0, capsys.readouterr().err
+    assert _written(out) == CHECK_FILES["png"] | {"pareto.png", "options.png", "result.json", "design.json"}
+    # A second run with fewer formats removes the files it no longer makes.
+    assert main(["design", str(CONFIGS / "demo-search.yaml"), "-o", str(out), "--formats", "json"]) == 0
+    assert _written(out) == {"result.json", "design.json"}
+
+
+def _png_size(data: bytes) -> tuple[int, int]:
+    assert data[:8] == b"\x89PNG\r\n\x1a\n" and data[12:16] == b"IHDR"
+    return struct.unpack(">II", data[16:24])
+
+
+@pytest.mark.parametrize("dpi", [72, 200])
+def test_dpi_sets_the_png_pixel_size_from_the_sheet_size(dpi, metric):
+    project, ev = metric
+    files = cli._check_outputs(ev, project, None, formats=("png",), dpi=dpi)
+    # Source: ISO 216:2007, Writing paper and certain classes of printed matter, A series
+    # (A3 297 x 420 mm, A4 210 x 297 mm); pixels = sheet mm * dpi / 25.4 (1 in = 25.4 mm).
+    sheet_mm = {"A3": (420.0, 297.0), "A4": (297.0, 210.0)}
+    for name in DESIGN_FIGURES:
+        w_mm, h_mm = sheet_mm[figures.SHEET_OF[name]]
+        w, h = _png_size(files[f"{name}.png"])
+        assert abs(w - w_mm * dpi / 25.4) < 1.0 and abs(h - h_mm * dpi / 25.4) < 1.0, (name, w, h)
+
+
+def test_parse_dpi_default_and_bounds():
+    assert parse_dpi(None) == formats.DEFAULT_DPI == figures.PNG_DPI
+    assert parse_dpi("300") == 300 and parse_dpi("50") == 50 and parse_dpi("600") == 600
+    for bad in ("49", "601", "150.5", ""):
+        with pytest.raises(helix.InputError):
+            parse_dpi(bad)
+
+
+def test_outputs_are_byte_identical_between_runs_and_however_rendered(monkeypatch, metric):
+    project, ev = metric
+    first = cli._check_outputs(ev, project, None)
+    second = cli._check_outputs(ev, project, None)
+    assert set(first) == set(second) and all(first[k] == second[k] for k in first)
+    # The same bytes with every figure saved in this process (no worker processes).
+    monkeypatch.setattr(figures, "_workers", lambda tasks: 0)
+    serial = cli._check_outputs(ev, project, None)
+    assert all(serial[k] == first[k] for k in first)
