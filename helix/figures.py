@@ -33,7 +33,7 @@ from .clearance import headroom
 from .evaluate import Evaluation
 from .sheet import (MIN_FONT_PT, POINT_MM, SCALES, Sheet, axes_mm, choose_scale, fit_text, mm, new_sheet, north_point,
                     set_true_scale, title_block)
-from .plot import axis_of, nearest_limit, setback_outline, zone_outline
+from .plot import axis_of, footprint_span, nearest_limit, setback_outline, zone_outline
 from .site_grid import grid_bearing, north_angle
 from .units import FOOT, format_length, format_level
 
@@ -1351,7 +1351,7 @@ def pareto_figure(result: Any) -> Figure:
         if "failed" in kinds:
             handles.append(Line2D([], [], marker="X", ms=9, color=PALETTE["thread2"], mec="black", ls="none",
                                   label="layout with no feasible design: its least-failing design"))
-        usable = min(p.site.usable)
+        usable = footprint_span(p.site)  # min(usable) for the rectangle
         ax.axvline(float(s(usable)), color=PALETTE["footprint"], lw=1.4, ls="--")
         xs.append(float(s(usable)))
         handles.append(Line2D([], [], color=PALETTE["footprint"], lw=1.4, ls="--", label="usable footprint"))

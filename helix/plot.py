@@ -186,17 +186,21 @@ def polygon_problem(points: tuple[tuple[float, float], ...]) -> str | None:
     if len(points) < 3:
         return f"got {len(points)} vertices; expected at least 3"
     poly = shapely.Polygon(points)
-    if not poly.is_valid:
+    if shapely.MultiPoint(points).convex_hull.area <= 1e-9:
+        return "the polygon has no area (its vertices lie on one line)"
+    if not poly.is_valid or abs(_shoelace(points)) <= 1e-9:
         return "the edges cross or touch (expected a simple polygon, vertices in order round it)"
-    if poly.area <= 1e-9:
-        return "the polygon has no area"
     return None
 
 
 def anticlockwise(points: tuple[tuple[float, float], ...]) -> tuple[tuple[float, float], ...]:
     """The vertices in anticlockwise order (the shoelace area positive)."""
-    a = sum(x0 * y1 - x1 * y0 for (x0, y0), (x1, y1) in zip(points, points[1:] + points[:1]))
-    return points if a > 0 else tuple(reversed(points))
+    return points if _shoelace(points) > 0 else tuple(reversed(points))
+
+
+def _shoelace(points: tuple[tuple[float, float], ...]) -> float:
+    """Signed area (anticlockwise positive)."""
+    return 0.5 * sum(x0 * y1 - x1 * y0 for (x0, y0), (x1, y1) in zip(points, points[1:] + points[:1]))
 
 
 def nearest_limit(site: Site, x: float, y: float) -> tuple[float, float]:
