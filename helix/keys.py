@@ -92,6 +92,8 @@ class Key:
 class Section:
     description: str
     keys: tuple[Key, ...]
+    #: Sets of keys of which exactly one set is given (site: width and depth, or boundary).
+    one_of: tuple[tuple[str, ...], ...] = ()
 
     @property
     def names(self) -> frozenset[str]:
@@ -171,7 +173,7 @@ def sections() -> dict[str, Section]:
                 default="the centre of the largest circle inside the allowed region"),
             Key("grid", ref("site_grid"), "Where the plot lies in the site grid (setting-out, plan "
                 "bearings, north point).", default="plot coordinates, north = +y"),
-        )),
+        ), one_of=(("width", "depth"), ("boundary",))),
         "design": Section("The helix: fixed values, or ranges and choices for 'helix design'.", (
             Key("layouts", list_of(enum(SEARCH_LAYOUTS), 1), "Layouts to search (instead of 'layout')."),
             Key("layout", enum(LAYOUT_CHOICES), "Single, double (interleaved) or concentric helix.",
@@ -247,7 +249,7 @@ def sections() -> dict[str, Section]:
             Key("name", text(MAX_NAME), "What it is, e.g. 'column C3'.", required=True),
             Key("polygon", list_of(point, 3), "A simple polygon [[x, y], ...] (or give circle)."),
             Key("circle", ref("no_build_circle"), "A circle (or give polygon)."),
-        )),
+        ), one_of=(("polygon",), ("circle",))),
         "no_build_circle": Section("A circular no-build zone.", (
             Key("centre", point, "[x, y] of the centre.", required=True),
             Key("radius", LENGTH, "Radius.", required=True),
