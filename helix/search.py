@@ -1249,7 +1249,9 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
         changed = _changed_project(project, key, shortfall, float(at.diameter[0]))
         if changed is None:
             item["verified"] = False
-            item["verified_result"] = "not verified: no such change can be made to the project"
+            item["verified_result"] = ("not verified: a polygonal plot or a pinned axis has no one way to grow"
+                                       if key == "footprint" else
+                                       "not verified: no such change can be made to the project")
         else:
             vls, vev = _verified(changed, layout)
             ok = vls.feasible and vev is not None and vev.ok
