@@ -13,6 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .clearance import HeadroomPoint
+from .plot import axis_of, footprint_span
 from .geometry import Helix, Thread
 from .project import Project
 from .rules import GradientLimit, Limit
@@ -291,15 +292,29 @@ def clear_height_check(project: Project, head: HeadroomPoint | None, where: str)
 
 @titled(footprint="Overall diameter within the footprint")
 def footprint_check(project: Project, helix: Helix) -> Check:
-    """The helix, its clearances to structure and its outer wall, in the usable plot."""
-    usable = min(project.site.usable)
-    return Check("footprint", check_title("footprint"), helix.overall_diameter,
-                 usable, "max", "length",
-                 "site footprint in the project file, less its margin; structure clearance "
-                 "from the rule set",
-                 f"footprint {format_length(project.site.width, project.units)} x "
-                 f"{format_length(project.site.depth, project.units)}, "
-                 f"margin {format_length(project.site.margin, project.units)}")
+    """The helix, its clearances to structure and its outer wall, in the usable plot: for
+    a polygon or a pinned axis, the circle of the structure radius inside the allowed
+    region (plot less setback, less no-build zones) at the axis (:mod:`helix.plot`)."""
+    site, u = project.site, project.units
+    if site.is_rectangle and site.axis is None:
+        return Check("footprint", check_title("footprint"), helix.overall_diameter,
+                     min(site.usable), "max", "length",
+                     "site footprint in the project file, less its margin; structure clearance "
+                     "from the rule set",
+                     f"footprint {format_length(site.width, u)} x "
+                     f"{format_length(site.depth, u)}, "
+                     f"margin {format_length(site.margin, u)}")
+    ax = axis_of(site)
+    spare = ax.reach - 0.5 * helix.overall_diameter
+    place = "pinned axis" if ax.pinned else "axis at the centre of the largest circle in the allowed region"
+    note = (f"{place} ({format_length(ax.x, u)}, {format_length(ax.y, u)}); spare "
+            f"{format_length(spare, u, precision=3)} to the nearest limit, {ax.nearest}; setback "
+            f"{format_length(site.margin, u)}, {len(site.no_build)} no-build zone(s)")
+    if not ax.pinned and ax.upper > ax.reach:
+        note += f"; no centre reaches more than {format_length(ax.upper - ax.reach, u, precision=4)} further"
+    return Check("footprint", check_title("footprint"), helix.overall_diameter, footprint_span(site), "max",
+                 "length", "site boundary, setback and no-build zones in the project file (limit: twice the "
+                 "reach from the axis); structure clearance from the rule set", note)
 
 
 @titled(cross_fall="Cross-fall of the curved ramp")

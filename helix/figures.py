@@ -34,6 +34,7 @@ from .evaluate import Evaluation
 from .formats import DEFAULT_DPI as PNG_DPI  # PNG resolution unless told (the reason is there)
 from .sheet import (MIN_FONT_PT, POINT_MM, SCALES, Sheet, axes_mm, choose_scale, fit_text, mm, new_sheet, north_point,
                     set_true_scale, title_block)
+from .plot import axis_of, footprint_span, nearest_limit, setback_outline, zone_outline
 from .site_grid import grid_bearing, north_angle
 from .units import FOOT, format_length, format_level
 
@@ -236,6 +237,28 @@ def _dim(ax: Axes, a: tuple[float, float], b: tuple[float, float], text: str, *,
 # Plan
 
 
+def _plot_polygon(ax: Axes, p: Any, s: Any, lw: float) -> list[Any]:
+    """The plot as a polygon, its setback line and its no-build zones; their legend handles."""
+    colour = PALETTE["footprint"]
+    site = p.site
+    ax.add_patch(Polygon([(float(s(x)), float(s(y))) for x, y in site.boundary or ()], closed=True, fill=False,
+                         ec=colour, lw=lw))
+    handles: list[Any] = [Line2D([], [], color=colour, lw=lw, label="plot boundary")]
+    if site.margin > 0:
+        for ring in setback_outline(site):
+            ax.add_patch(Polygon([(float(s(x)), float(s(y))) for x, y in ring], closed=True, fill=False,
+                                 ec=colour, lw=0.5 * lw, ls="--"))
+        handles.append(Line2D([], [], color=colour, lw=0.5 * lw, ls="--", label="setback line"))
+    for z in site.no_build:
+        ax.add_patch(Polygon([(float(s(x)), float(s(y))) for x, y in zone_outline(z)], closed=True,
+                             fc="#D9D9D9", ec="black", lw=0.6, hatch="xxxx"))
+    if site.no_build:
+        handles.append(Patch(fc="#D9D9D9", ec="black", hatch="xxxx", lw=0.6,
+                             label="no-build zone (" + ", ".join(z.name for z in site.no_build[:4])
+                             + (", ..." if len(site.no_build) > 4 else "") + ")"))
+    return handles
+
+
 def plan_figure(ev: Evaluation) -> Figure:
     """Plan on A3 at a true standard scale: plot, structure, kerbs, lanes, up and down
     centre lines, direction of travel, chainage ticks, level connections with entry and
@@ -256,13 +279,16 @@ def plan_figure(ev: Evaluation) -> Figure:
         ax = axes_mm(fig, sheet, box)
         set_true_scale(ax, n, (float(s(0.5 * (x0 + x1))), float(s(0.5 * (y0 + y1)))), s.unit_m)
         handles: list[Any] = []
-        ax.add_patch(Rectangle((0, 0), s(W), s(D), fill=False, ec=PALETTE["footprint"], lw=1.6))
-        handles.append(Line2D([], [], color=PALETTE["footprint"], lw=1.6, label="plot (footprint)"))
-        m = p.site.margin
-        if m > 0:
-            ax.add_patch(Rectangle((s(m), s(m)), s(W - 2 * m), s(D - 2 * m), fill=False,
-                                   ec=PALETTE["footprint"], lw=0.8, ls="--"))
-            handles.append(Line2D([], [], color=PALETTE["footprint"], lw=0.8, ls="--", label="plot less margin"))
+        if p.site.is_rectangle:
+            ax.add_patch(Rectangle((0, 0), s(W), s(D), fill=False, ec=PALETTE["footprint"], lw=1.6))
+            handles.append(Line2D([], [], color=PALETTE["footprint"], lw=1.6, label="plot (footprint)"))
+            m = p.site.margin
+            if m > 0:
+                ax.add_patch(Rectangle((s(m), s(m)), s(W - 2 * m), s(D - 2 * m), fill=False,
+                                       ec=PALETTE["footprint"], lw=0.8, ls="--"))
+                handles.append(Line2D([], [], color=PALETTE["footprint"], lw=0.8, ls="--", label="plot less margin"))
+        else:
+            handles += _plot_polygon(ax, p, s, 1.6)
         C = (float(s(cx)), float(s(cy)))
         wall = p.structure.wall_thickness
         r_wall_in = R - wall
@@ -489,6 +515,25 @@ def plan_figure(ev: Evaluation) -> Figure:
         setbacks = [("left", (0.0, cy), (cx - R, cy)), ("right", (cx + R, cy), (W, cy)),
                     ("bottom", (cx, 0.0), (cx, cy - R)), ("top", (cx, cy + R), (cx, D))]
         setback_lines = []
+        spare_line = ""
+        if not p.site.is_rectangle or p.site.axis is not None:
+            setbacks = []  # the edges of a polygon are not the four sides: one dimension, to the nearest limit
+            ax_ = axis_of(p.site)
+            qx, qy = nearest_limit(p.site, cx, cy)
+            dist = math.hypot(qx - cx, qy - cy)
+            spare = ax_.reach - R
+            if dist > 0 and spare > 0:
+                ux, uy = (qx - cx) / dist, (qy - cy) / dist
+                ax.annotate("", (float(s(qx)), float(s(qy))), (float(s(cx + R * ux)), float(s(cy + R * uy))),
+                            arrowprops=dict(arrowstyle="<|-|>", color=PALETTE["footprint"], lw=0.8, shrinkA=0,
+                                            shrinkB=0, mutation_scale=6))
+                ax.annotate(f"spare {format_length(spare, p.units)}", (float(s(qx)), float(s(qy))), (3, 3),
+                            textcoords="offset points", fontsize=SMALL, color="black",
+                            bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none"))
+            spare_line = (f"Spare distance, structure to the nearest limit ({ax_.nearest}): "
+                          f"{format_length(spare, p.units)}; axis "
+                          + ("pinned" if ax_.pinned else "at the centre of the largest circle in the allowed region")
+                          + ".")
         for where, q0, q1 in setbacks:
             d_ = math.hypot(q1[0] - q0[0], q1[1] - q0[1]) * (1 if (q1[0] - q0[0]) + (q1[1] - q0[1]) >= 0 else -1)
             setback_lines.append(f"{where} {format_length(d_, p.units)}")
@@ -513,7 +558,8 @@ def plan_figure(ev: Evaluation) -> Figure:
                   f"Section A-A on bearing {_wcb(cut, ev)} (right half) and {_wcb(cut + math.pi, ev)}.",
                   f"Helix axis at x {format_length(cx, p.units)}, y {format_length(cy, p.units)} "
                   "(plot coordinates).",
-                  "Setbacks, structure to plot edge: " + ", ".join(setback_lines) + ".",
+                  ("Setbacks, structure to plot edge: " + ", ".join(setback_lines) + ".") if setback_lines
+                  else spare_line,
                   "Site grid: " + ("easting = x, northing = y (no rotation, origin 0, 0)." if grid.is_default
                                    else f"plot origin at E {format_length(grid.origin[0], p.units)}, "
                                         f"N {format_length(grid.origin[1], p.units)}; plot +y on bearing "
@@ -1340,7 +1386,7 @@ def pareto_figure(result: Any) -> Figure:
         if "failed" in kinds:
             handles.append(Line2D([], [], marker="X", ms=9, color=PALETTE["thread2"], mec="black", ls="none",
                                   label="layout with no feasible design: its least-failing design"))
-        usable = min(p.site.usable)
+        usable = footprint_span(p.site)  # min(usable) for the rectangle
         ax.axvline(float(s(usable)), color=PALETTE["footprint"], lw=1.4, ls="--")
         xs.append(float(s(usable)))
         handles.append(Line2D([], [], color=PALETTE["footprint"], lw=1.4, ls="--", label="usable footprint"))
@@ -1406,10 +1452,13 @@ def options_figure(result: Any) -> Figure:
             set_true_scale(ax, n, (float(s(0.5 * (b[0] + b[2]))), float(s(0.5 * (b[1] + b[3])))), s.unit_m)
             ax.set_xticks([])
             ax.set_yticks([])
-            ax.add_patch(Rectangle((0, 0), float(s(p.site.width)), float(s(p.site.depth)), fill=False,
-                                   ec=PALETTE["footprint"], lw=1.2))
+            if not p.site.is_rectangle:
+                _plot_polygon(ax, p, s, 1.2)
+            else:
+                ax.add_patch(Rectangle((0, 0), float(s(p.site.width)), float(s(p.site.depth)), fill=False,
+                                       ec=PALETTE["footprint"], lw=1.2))
             m = p.site.margin
-            if m > 0:
+            if m > 0 and p.site.is_rectangle:
                 ax.add_patch(Rectangle((float(s(m)), float(s(m))), float(s(p.site.width - 2 * m)),
                                        float(s(p.site.depth - 2 * m)), fill=False, ec=PALETTE["footprint"],
                                        lw=0.8, ls="--"))

@@ -92,6 +92,8 @@ class Key:
 class Section:
     description: str
     keys: tuple[Key, ...]
+    #: Sets of keys of which exactly one set is given (site: width and depth, or boundary).
+    one_of: tuple[tuple[str, ...], ...] = ()
 
     @property
     def names(self) -> frozenset[str]:
@@ -108,6 +110,7 @@ def sections() -> dict[str, Section]:
                           TRAFFIC, TRANSITION_KINDS)
 
     turns = any_of(NUMBER, list_of(NUMBER, 1), ref("turns_choices"))
+    point = list_of(LENGTH, 2, 2)
     return {
         "top": Section("A helix project file (all scenarios in helix's demos are invented).", (
             Key("project", ref("project"), "Name and notes of the project.", required=True),
@@ -155,13 +158,22 @@ def sections() -> dict[str, Section]:
             Key("cover_soffit", LENGTH, "Level of the underside of a roof or deck over the helix.",
                 default="none"),
         )),
-        "site": Section("The footprint free for the helix.", (
-            Key("width", LENGTH, "Along plan x.", required=True),
-            Key("depth", LENGTH, "Along plan y.", required=True),
+        "site": Section("The footprint free for the helix: a rectangle (width, depth) or a polygon "
+                        "(boundary), with optional no-build zones.", (
+            Key("width", LENGTH, "Along plan x (the rectangle shorthand; required unless boundary is given)."),
+            Key("depth", LENGTH, "Along plan y (the rectangle shorthand; required unless boundary is given)."),
             Key("margin", LENGTH, "Kept clear inside the footprint edges.", default="0"),
+            Key("boundary", list_of(point, 3), "The plot as a simple polygon [[x, y], ...] in plot "
+                "coordinates (x, y >= 0), instead of width and depth; needs the 'plots' extra (shapely)."),
+            Key("setback", LENGTH, "Kept clear inside the plot boundary (the same as margin; give one).",
+                default="0"),
+            Key("no_build", list_of(ref("no_build"), 1), "Zones the helix and its clearances keep out of: "
+                "columns, a core, a lift shaft; needs the 'plots' extra (shapely)."),
+            Key("axis", point, "[x, y] of the helix axis, pinned.",
+                default="the centre of the largest circle inside the allowed region"),
             Key("grid", ref("site_grid"), "Where the plot lies in the site grid (setting-out, plan "
                 "bearings, north point).", default="plot coordinates, north = +y"),
-        )),
+        ), one_of=(("width", "depth"), ("boundary",))),
         "design": Section("The helix: fixed values, or ranges and choices for 'helix design'.", (
             Key("layouts", list_of(enum(SEARCH_LAYOUTS), 1), "Layouts to search (instead of 'layout')."),
             Key("layout", enum(LAYOUT_CHOICES), "Single, double (interleaved) or concentric helix.",
@@ -232,6 +244,15 @@ def sections() -> dict[str, Section]:
         "bay": Section("A standard parking bay.", (
             Key("width", LENGTH, "Bay width.", default="2.4 m"),
             Key("length", LENGTH, "Bay length.", default="4.8 m"),
+        )),
+        "no_build": Section("A no-build zone: a polygon or a circle.", (
+            Key("name", text(MAX_NAME), "What it is, e.g. 'column C3'.", required=True),
+            Key("polygon", list_of(point, 3), "A simple polygon [[x, y], ...] (or give circle)."),
+            Key("circle", ref("no_build_circle"), "A circle (or give polygon)."),
+        ), one_of=(("polygon",), ("circle",))),
+        "no_build_circle": Section("A circular no-build zone.", (
+            Key("centre", point, "[x, y] of the centre.", required=True),
+            Key("radius", LENGTH, "Radius.", required=True),
         )),
         "site_grid": Section("The plot in the site grid: eastings, northings, bearings clockwise from "
                              "grid north.", (

@@ -13,6 +13,7 @@ from functools import lru_cache
 from .alignment import build_profile, storey_run_slope
 from .errors import DesignError
 from .geometry import TWO_PI, Helix, Lane, Thread
+from .plot import axis_of
 from .project import DesignSpec, Project
 
 __all__ = ["build_helix", "landing_length", "transition_length", "cross_fall"]
@@ -164,7 +165,16 @@ def build_helix(project: Project, spec: DesignSpec | None = None) -> Helix:
     return Helix(layout=spec.layout, traffic=project.traffic, threads=threads,
                  structure_radius=outer + rules.clearance_outside() + project.structure.wall_thickness,
                  core_radius=max(0.0, inner - rules.clearance_inside()),
-                 centre=(0.5 * project.site.width, 0.5 * project.site.depth))
+                 centre=_centre(project))
+
+
+def _centre(project: Project) -> tuple[float, float]:
+    """The helix axis: the rectangle's centre, the pinned axis, or the centre of the
+    largest circle inside the allowed region (:func:`helix.plot.axis_of`)."""
+    if project.site.is_rectangle and project.site.axis is None:
+        return (0.5 * project.site.width, 0.5 * project.site.depth)
+    ax = axis_of(project.site)
+    return (ax.x, ax.y)
 
 
 def with_design(project: Project, **changes) -> Project:

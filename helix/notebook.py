@@ -85,7 +85,9 @@ def _project_rows(project: "Project") -> list[tuple[str, str]]:
     return [("project", project.name), ("levels", f"{len(project.levels)} ({project.levels[0].name} to "
                                                   f"{project.levels[-1].name})"),
             ("storey heights", ", ".join(format_length(h, u) for h in project.storey_heights)),
-            ("site", f"{format_length(project.site.width, u)} x {format_length(project.site.depth, u)}"),
+            ("site", f"{format_length(project.site.width, u)} x {format_length(project.site.depth, u)}"
+                     + (f" (a polygon of {len(project.site.boundary)} vertices, {len(project.site.no_build)} no-build "
+                        "zone(s))" if not project.site.is_rectangle and project.site.boundary else "")),
             ("traffic", project.traffic), ("design", _design_text(project)),
             ("rules", f"{project.rules.name}: {project.rules.title}"),
             ("vehicle", f"{project.vehicle.name}: {project.vehicle.title}")]

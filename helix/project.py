@@ -21,10 +21,11 @@ from .assumptions import ComparisonAssumptions
 from .errors import MAX_LENGTH, MAX_NAME, InputError, InvalidValue, Node, finite, require
 from .library_files import read_yaml
 from .rules import RuleSet, load_rule_set
+from . import plot
 from .site_grid import SiteGrid
 from .vehicle import Vehicle, load_vehicle
 
-__all__ = ["Level", "Structure", "Site", "Drawing", "DesignSpec", "SearchSpace", "Project", "load_project",
+__all__ = ["Level", "Structure", "Site", "Drawing", "DesignSpec", "SearchSpace", "Project", "NoBuild", "load_project",
            "DEFAULT_RULE_SET", "DEFAULT_VEHICLE", "MAX_LEVELS"]
 
 #: Most levels one helix may serve: the tallest car parks have a few dozen; the limit
@@ -83,15 +84,45 @@ class Structure:
         return self.slab_depth + self.hanging_depth
 
 
+Point = tuple[float, float]
+
+
+@dataclass(frozen=True)
+class NoBuild:
+    """A zone of the plot the helix must keep out of: a polygon or a circle (a column, a
+    core, a lift shaft)."""
+
+    name: str
+    polygon: tuple[Point, ...] | None = None  # anticlockwise
+    centre: Point | None = None
+    radius: float = 0.0
+
+    def __post_init__(self):
+        require((self.polygon is None) != (self.centre is None), self, "polygon", self.polygon,
+                "either a polygon or a circle's centre")
+        require(self.centre is None or finite(self.radius, 0, MAX_LENGTH, open_low=True), self, "radius",
+                self.radius, "a positive radius in metres")
+
+
 @dataclass(frozen=True)
 class Site:
-    width: float  # along plan x
-    depth: float  # along plan y
-    margin: float = 0.0  # kept clear inside the footprint edges
+    width: float  # along plan x (a polygon's largest x)
+    depth: float  # along plan y (a polygon's largest y)
+    margin: float = 0.0  # kept clear inside the footprint edges (site.margin or site.setback)
     grid: SiteGrid = SiteGrid()  # the survey grid the setting-out is given in
+    boundary: tuple[Point, ...] | None = None  # the plot as a polygon, anticlockwise; None: the rectangle
+    no_build: tuple[NoBuild, ...] = ()
+    axis: Point | None = None  # the helix axis, pinned; None: the best place (helix.plot)
 
     def __post_init__(self):
         require(isinstance(self.grid, SiteGrid), self, "grid", self.grid, "a SiteGrid")
+        require(self.boundary is None or (len(self.boundary) >= 3 and all(
+            finite(x, 0, MAX_LENGTH) and finite(y, 0, MAX_LENGTH) for x, y in self.boundary)), self, "boundary",
+            self.boundary, "at least 3 vertices with coordinates from 0 to 1000 m")
+        require(all(isinstance(z, NoBuild) for z in self.no_build), self, "no_build", self.no_build,
+                "NoBuild zones")
+        require(self.axis is None or all(finite(v) for v in self.axis), self, "axis", self.axis,
+                "None or a finite point")
         for key in ("width", "depth"):
             require(finite(getattr(self, key), 0, MAX_LENGTH, open_low=True), self, key, getattr(self, key),
                     "a positive length in metres")
@@ -101,6 +132,11 @@ class Site:
     @property
     def usable(self) -> tuple[float, float]:
         return (self.width - 2 * self.margin, self.depth - 2 * self.margin)
+
+    @property
+    def is_rectangle(self) -> bool:
+        """The width x depth shorthand, with no zones (the helix's plan is then today's)."""
+        return self.boundary is None and not self.no_build
 
 
 @dataclass(frozen=True)
@@ -342,17 +378,99 @@ def _structure(node: Node) -> Structure:
 
 
 def _site(node: Node) -> Site:
+    """``site``: the rectangle ``width`` x ``depth`` (with ``margin``), or a polygon
+    ``boundary`` (with ``setback``); optional ``no_build`` zones and a pinned ``axis``."""
     node.require_mapping()
-    width = node.child("width").length(positive=True)
-    depth = node.child("depth").length(positive=True)
+    boundary_node = node.child("boundary", required=False)
+    zones_node = node.child("no_build", required=False)
+    if (boundary_node is not None or zones_node is not None) and (why := plot.shapely_missing()):
+        raise (boundary_node or zones_node).error(why)  # type: ignore[union-attr]
+    boundary = None
+    if boundary_node is not None:
+        for key in ("width", "depth"):
+            if (extra := node.child(key, required=False)) is not None:
+                raise extra.error("expected either width and depth (a rectangle) or boundary (a polygon), not both")
+        boundary = _polygon(boundary_node, "the plot boundary")
+        width = max(x for x, _ in boundary)
+        depth = max(y for _, y in boundary)
+    else:
+        width = node.child("width").length(positive=True)
+        depth = node.child("depth").length(positive=True)
     margin_node = node.child("margin", required=False)
+    setback_node = node.child("setback", required=False)
+    if margin_node is not None and setback_node is not None:
+        raise setback_node.error("expected margin or setback (the same distance), not both")
+    margin_node = margin_node or setback_node
     margin = margin_node.length(non_negative=True) if margin_node else 0.0
     if 2 * margin >= min(width, depth):
         raise margin_node.error(f"got {margin_node.data!r}; expected a margin smaller than half the "  # type: ignore[union-attr]
                                 f"footprint ({min(width, depth) / 2:.2f} m)")
+    zones = _no_build(zones_node)
+    axis_node = node.child("axis", required=False)
+    axis = _point(axis_node, "[x, y] of the helix axis, e.g. [12 m, 14 m]") if axis_node is not None else None
     grid = _site_grid(node.child("grid", required=False))
     node.done(section="site")
-    return Site(width, depth, margin, grid)
+    site = Site(width, depth, margin, grid, boundary, zones, axis)
+    if axis is not None and plot.reach_at(site, *axis)[0] <= 0:
+        raise axis_node.error(f"got {units.short_repr(axis_node.data, 60)}; expected a point inside the plot, "  # type: ignore[union-attr]
+                              "clear of its setback and of the no-build zones")
+    if not site.is_rectangle and site.axis is None and plot.axis_of(site).reach <= 0:
+        raise (boundary_node or zones_node).error(  # type: ignore[union-attr]
+            "the setback and the no-build zones leave no room inside the plot; expected an allowed region")
+    return site
+
+
+def _point(node: Node, what: str) -> Point:
+    items = list(node.items()) if isinstance(node.data, list) else []
+    if len(items) != 2:
+        raise node.error(f"got {units.short_repr(node.data, 60)}; expected {what}")
+    return (items[0].length(non_negative=True), items[1].length(non_negative=True))
+
+
+#: Most vertices of one polygon of the site (bounds the work of the footprint check).
+MAX_VERTICES = 2000
+
+
+def _polygon(node: Node, what: str) -> tuple[Point, ...]:
+    """A simple polygon ``[[x, y], ...]`` (plot coordinates, x and y >= 0), anticlockwise."""
+    if not isinstance(node.data, list) or not 3 <= len(node.data) <= MAX_VERTICES:
+        raise node.error(f"got {units.short_repr(node.data, 60)}; expected {what} as a list of 3 to "
+                         f"{MAX_VERTICES} vertices [[x, y], ...]")
+    pts = tuple(_point(item, "a vertex [x, y] with x and y of zero or more, e.g. [0 m, 12 m]")
+                for item in node.items())
+    if len(pts) > 3 and pts[0] == pts[-1]:
+        pts = pts[:-1]  # the closing vertex written again
+    if (why := plot.polygon_problem(pts)) is not None:
+        raise node.error(f"{why}; expected {what} as a simple polygon")
+    return plot.anticlockwise(pts)
+
+
+def _no_build(node: Node | None) -> tuple[NoBuild, ...]:
+    """``no_build: [{name, polygon: [[x, y], ...]} or {name, circle: {centre, radius}}]``."""
+    if node is None:
+        return ()
+    if not isinstance(node.data, list):
+        raise node.error(f"got {units.short_repr(node.data, 60)}; expected a list of zones "
+                         "[{name: ..., polygon: [[x, y], ...]} or {name: ..., circle: {centre: [x, y], radius: ...}}]")
+    zones = []
+    for item in node.items():
+        item.require_mapping()
+        name = item.child("name").text()
+        poly_node = item.child("polygon", required=False)
+        circle_node = item.child("circle", required=False)
+        if (poly_node is None) == (circle_node is None):
+            raise item.error("expected exactly one of polygon or circle")
+        if poly_node is not None:
+            zones.append(NoBuild(name, polygon=_polygon(poly_node, "a no-build zone")))
+        else:
+            assert circle_node is not None
+            circle_node.require_mapping()
+            centre = _point(circle_node.child("centre"), "[x, y] of the circle's centre")
+            radius = circle_node.child("radius").length(positive=True)
+            circle_node.done(section="no_build_circle")
+            zones.append(NoBuild(name, centre=centre, radius=radius))
+        item.done(section="no_build")
+    return tuple(zones)
 
 
 def _site_grid(node: Node | None) -> SiteGrid:
@@ -606,7 +724,7 @@ def _rules(node: Node | None, project_dir: Path) -> RuleSet:
 
 #: Where a field of each dataclass is written in a project file, for the rare value
 #: the loader lets through and the dataclass refuses (see :func:`helix.errors.require`).
-_KEY_OF = {"Project": "", "Structure": "structure.", "Site": "site.", "SiteGrid": "site.grid.",
+_KEY_OF = {"Project": "", "Structure": "structure.", "Site": "site.", "SiteGrid": "site.grid.", "NoBuild": "site.no_build",
            "Drawing": "drawing.", "Level": "levels", "Vehicle": "vehicle.",
            "DesignSpec": "design.", "Limit": "rules", "GradientLimit": "rules.gradient",
            "ComparisonAssumptions": "comparison."}

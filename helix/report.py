@@ -194,7 +194,11 @@ def _inputs(ev: Evaluation) -> list[Block]:
                  ["outer wall", format_length(st.wall_thickness, u)],
                  ["cover soffit", format_level(st.cover_soffit, u) if st.cover_soffit is not None else "none"],
                  ["footprint", f"{format_length(site.width, u)} x {format_length(site.depth, u)}, margin "
-                               f"{format_length(site.margin, u)}"]]
+                               f"{format_length(site.margin, u)}" if site.is_rectangle else
+                  (f"polygon of {len(site.boundary)} vertices within " if site.boundary else "rectangle ")
+                  + f"{format_length(site.width, u)} x "
+                  f"{format_length(site.depth, u)}, setback {format_length(site.margin, u)}, "
+                  f"{len(site.no_build)} no-build zone(s)"]]
     v = p.vehicle
     vehicle = [[k.replace("_", " "), format_length(x, u), v.sources.get(k, "")] for k, x in v.dimensions().items()]
     rules = [[key.replace("_", " "), value, source] for key, value, source in p.rules.summary(u)]

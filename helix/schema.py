@@ -48,6 +48,8 @@ def _section(section: Section) -> dict[str, Any]:
     required = [k.name for k in section.keys if k.required]
     if required:
         out["required"] = required
+    if section.one_of:
+        out["oneOf"] = [{"required": list(names)} for names in section.one_of]
     return out
 
 

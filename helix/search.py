@@ -40,6 +40,7 @@ from .batch import BatchProfile, batch_min_headroom, build_profiles, run_slopes
 from .evaluate import Evaluation, evaluate
 from .intervals import TOL, Interval, IntervalSet, RegionError, certified_region
 from .layout import landing_length
+from .plot import axis_of, footprint_span
 from .roots import brent_root
 from .project import Project, SearchSpace
 
@@ -295,7 +296,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
         margins["cross_fall"] = np.full(len(radius), abs(e) - rules.cross_fall_min.value)
     outer = max(thread_rc, key=lambda a: float(np.max(a))) + 0.5 * carriageway
     diameter = 2.0 * (outer + rules.clearance_outside() + st.wall_thickness)
-    margins["footprint"] = min(project.site.usable) - diameter
+    margins["footprint"] = footprint_span(project.site) - diameter  # helix.plot: exact at the axis
     if with_headroom:
         starts = [d.start_bearing, d.start_bearing + math.pi] if family.layout == "double" else \
             [d.start_bearing] * len(profiles)
@@ -1131,6 +1132,8 @@ def _changed_project(project: Project, key: str, shortfall: float, diameter: flo
     from .rules import Limit
     rules, st, site = project.rules, project.structure, project.site
     eps = 1e-4
+    if key == "footprint" and (site.axis is not None or not site.is_rectangle):
+        return None  # a polygon has no one way to grow: the change names the circle it must hold
     if key == "footprint":
         need = diameter + 2 * site.margin + 1e-3
         bigger = replace(project, site=replace(site, width=max(site.width, need), depth=max(site.depth, need)))
@@ -1172,6 +1175,13 @@ def _change_text(project: Project, key: str, shortfall: float, diameter: float) 
     from .units import format_length
     u = project.units
     site = project.site
+    if key == "footprint" and (site.axis is not None or not site.is_rectangle):
+        ax = axis_of(site)
+        where = (f"at the pinned axis ({format_length(ax.x, u)}, {format_length(ax.y, u)})" if ax.pinned else
+                 "anywhere in the allowed region")
+        return (f"an allowed region (plot less setback and no-build zones) that holds a circle of diameter "
+                f"{format_length(diameter, u)} {where}; the largest now is {format_length(2 * max(ax.reach, 0), u)}, "
+                f"limited by {ax.nearest}")
     if key == "footprint":
         need = diameter + 2 * site.margin
         return (f"a footprint of at least {format_length(need, u)} x {format_length(need, u)} "
@@ -1230,7 +1240,8 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
                 "turns_per_storey": list(fam.turns),
                 "change": _change_text(project, key, shortfall, float(at.diameter[0]))}
         if key == "footprint":
-            item["value"] = round(float(at.diameter[0]) + 2 * project.site.margin, 4)
+            item["value"] = round(float(at.diameter[0]) + (2 * project.site.margin if project.site.is_rectangle
+                                                            and project.site.axis is None else 0.0), 4)
         elif key.startswith("gradient") or key == "target_gradient":
             item["value"] = round(100 * shortfall, 4)
         elif key == "clear_height":
@@ -1238,7 +1249,9 @@ def _explain(project: Project, layout: str, feasible_layouts: set[str],
         changed = _changed_project(project, key, shortfall, float(at.diameter[0]))
         if changed is None:
             item["verified"] = False
-            item["verified_result"] = "not verified: no such change can be made to the project"
+            item["verified_result"] = ("not verified: a polygonal plot or a pinned axis has no one way to grow"
+                                       if key == "footprint" else
+                                       "not verified: no such change can be made to the project")
         else:
             vls, vev = _verified(changed, layout)
             ok = vls.feasible and vev is not None and vev.ok
@@ -1284,7 +1297,7 @@ def default_space(project: Project):
     rules and the vehicle."""
     from .project import SEARCH_LAYOUTS
     sp = _space(project)
-    r_max = max(0.5 * min(project.site.usable), 3.5)
+    r_max = max(0.5 * footprint_span(project.site), 3.5)
     return replace(sp, layouts=SEARCH_LAYOUTS, radius_min=3.0, radius_max=r_max, turns_choices=None,
                    turns_free=True, lane_widths=None, fixed=False, range_from_plot=True)
 
