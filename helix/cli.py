@@ -187,6 +187,7 @@ def _check(args: argparse.Namespace) -> int:
             sys.stdout.write(f"rule set {e.project.rules.name}: "
                              f"{'all checks pass' if not fails else 'FAIL ' + ', '.join(fails)}\n")
         if args.output:
+            _missing_exports()
             sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
     return 0 if result.ok and all(e.ok for e in comparisons) else 1
 
@@ -220,7 +221,7 @@ def _result_data(result, comparisons) -> dict:
 
 def _check_outputs(result, project, stations, comparisons=(), option=None, search=None) -> dict[str, bytes]:
     _use_agg()
-    from .cad import dxf_available, plan_dxf
+    from .exports import export_files
     from .figures import start_render
     from .report import report_files
     from .results import to_json
@@ -244,9 +245,15 @@ def _check_outputs(result, project, stations, comparisons=(), option=None, searc
             job.result()  # reap the child even when this run fails
         for fig in figs.values():
             plt.close(fig)
-    if dxf_available():
-        files["plan.dxf"] = plan_dxf(result)
+    files.update(export_files(result))  # every format of helix.exports.FORMATS that is installed
     return files
+
+
+def _missing_exports() -> None:
+    from .exports import missing_note
+    note = missing_note()
+    if note:
+        sys.stdout.write(note + "\n")
 
 
 def _design(args: argparse.Namespace) -> int:
@@ -277,6 +284,7 @@ def _design(args: argparse.Namespace) -> int:
     else:
         sys.stdout.write(design_table(result))
         if args.output:
+            _missing_exports()
             sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
     return 0 if result.best is not None else 1
 
