@@ -76,6 +76,16 @@ def test_without_the_extras_one_line_names_them(monkeypatch):
     assert set(export_files(ev)) == {"plan.dxf", "model.html"}
 
 
+def test_the_command_line_names_the_missing_extras_and_passes(tmp_path, monkeypatch, capsys):
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec",
+                        lambda name, *a: None if name in ("ifcopenshell", "trimesh") else real(name, *a))
+    assert main(["check", "configs/demo-metric.yaml", "-o", str(tmp_path)]) == 0
+    lines = [line for line in capsys.readouterr().out.splitlines() if "not written" in line]
+    assert len(lines) == 1 and "[bim,mesh]" in lines[0]
+    assert (tmp_path / "model.html").is_file() and not (tmp_path / "model.ifc").exists()
+
+
 @pytest.mark.skipif(importlib.util.find_spec("ifcopenshell") is None or importlib.util.find_spec("trimesh") is None,
                     reason="needs the bim and mesh extras")
 def test_design_writes_the_models(tmp_path, capsys):
@@ -275,3 +285,14 @@ def test_obj_reads_back_in_site_coordinates():
     x, y = _plot_xy(v[:, 0], v[:, 1])
     off, _ = _surface_offset(ev, ev.helix.threads[0], np.column_stack([x, y, v[:, 2]]))
     assert names[0].endswith("running surface") and off.max() < 1e-3
+
+
+@needs_ifc
+def test_ifc_conforms_to_the_schema(ifc_double):
+    # Source: buildingSMART IFC4 EXPRESS schema (ISO 16739-1:2018), attribute types and
+    # WHERE rules, checked by ifcopenshell.validate.
+    import ifcopenshell.validate
+    _, f = ifc_double
+    log = ifcopenshell.validate.json_logger()
+    ifcopenshell.validate.validate(f, log, express_rules=True)
+    assert log.statements == []
