@@ -8,6 +8,7 @@ by hand: ``python tests/browser.py PAGE.html OUT.png``.
 from __future__ import annotations
 
 import base64
+import contextlib
 import json
 import os
 import shutil
@@ -122,7 +123,11 @@ def load(url: str, expression: str, settle: float = 1.0) -> dict:
                 "exceptions": [e["params"] for e in ev if e.get("method") == "Runtime.exceptionThrown"],
                 "log": [e["params"]["entry"] for e in ev if e.get("method") == "Log.entryAdded"]}
     finally:
-        proc.kill()
+        with contextlib.suppress(Exception):
+            pipe.call("Browser.close", timeout=5)
+            proc.wait(timeout=10)
+        if proc.poll() is None:
+            proc.kill()
         proc.wait(timeout=10)
         os.close(from_parent)
         os.close(from_child)

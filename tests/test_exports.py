@@ -296,3 +296,28 @@ def test_ifc_conforms_to_the_schema(ifc_double):
     log = ifcopenshell.validate.json_logger()
     ifcopenshell.validate.validate(f, log, express_rules=True)
     assert log.statements == []
+
+
+@needs_mesh
+@pytest.mark.parametrize("hand", [1, -1])
+def test_solids_are_closed_and_the_slab_holds_its_volume(hand):
+    # Source: Cavalieri's principle: a slab hung a constant depth d under a surface has
+    # the volume (plan area) x d; the plan of a storey is the annulus sector
+    # (r_o^2 - r_i^2) phi / 2.  Watertightness and winding by trimesh.
+    from helix.exports.model import model_parts
+    from helix.layout import with_design
+    ev = helix.evaluate(with_design(helix.load_project("configs/demo-metric.yaml"), hand=hand))
+    t = ev.helix.threads[0]
+    d = ev.project.structure.slab_depth
+    for part in model_parts(ev):
+        mesh = trimesh.Trimesh(part.vertices, part.faces, process=False)
+        assert mesh.is_winding_consistent
+        if part.closed:
+            assert mesh.is_watertight and mesh.volume > 0
+        else:
+            assert (mesh.face_normals[:, 2] > 0).all()  # the running surface faces up
+        if part.kind == "slab":
+            conn = t.profile.connections
+            phi = conn[part.storey + 1] - conn[part.storey]
+            want = 0.5 * (t.outer_radius ** 2 - t.inner_radius ** 2) * phi * d
+            assert mesh.volume == pytest.approx(want, rel=2e-3)
