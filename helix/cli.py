@@ -205,6 +205,7 @@ def _check(args: argparse.Namespace) -> int:
             sys.stdout.write(f"rule set {e.project.rules.name}: "
                              f"{'all checks pass' if not fails else 'FAIL ' + ', '.join(fails)}\n")
         if args.output:
+            _missing_exports(args)
             sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
     return 0 if result.ok and all(e.ok for e in comparisons) else 1
 
@@ -272,9 +273,6 @@ def _check_outputs(result, project, stations, comparisons=(), option=None, searc
             report = report_files(result, option=option, result=search, comparisons=list(comparisons),
                                   spacing=spacing, figures=figs, formats=formats)
             files.update(report)
-        if "dxf" in formats:
-            from .cad import plan_dxf
-            files["plan.dxf"] = plan_dxf(result)
         for name in formats:
             writer = FORMATS[name].writer
             if writer is not None:
@@ -288,6 +286,17 @@ def _check_outputs(result, project, stations, comparisons=(), option=None, searc
         for fig in figs.values():
             fig.clear()  # sheets are not registered with pyplot: clearing frees them
     return files
+
+
+def _missing_exports(args: argparse.Namespace) -> None:
+    """With the default formats, one line naming the extras that would add the exports
+    not written (asked for by ``--formats``, a missing extra is an input error)."""
+    if getattr(args, "formats", None) is not None:
+        return
+    from .exports import missing_note
+    note = missing_note()
+    if note:
+        sys.stdout.write(note + "\n")
 
 
 def _design(args: argparse.Namespace) -> int:
@@ -326,6 +335,7 @@ def _design(args: argparse.Namespace) -> int:
     else:
         sys.stdout.write(design_table(result))
         if args.output:
+            _missing_exports(args)
             sys.stdout.write(f"wrote {len(files)} files to {args.output}\n")
     return 0 if result.best is not None else 1
 

@@ -36,6 +36,15 @@ class Format:
         return self.needs is None or importlib.util.find_spec(self.needs) is not None
 
 
+def _export(name: str) -> Format:
+    """A row for an export of :mod:`helix.exports` (its registry holds the files, the
+    extra and the writer; the writer is imported only when used)."""
+    from . import exports
+    fmt = exports.FORMATS[name]
+    return Format(name, f"{', '.join(fmt.files)}, {fmt.description}", needs=fmt.modules[0] if fmt.modules else None,
+                  extra=fmt.extra, writer=lambda ev: fmt.load()(ev))
+
+
 #: Every format ``--formats`` accepts, in the order help lists them.
 FORMATS: dict[str, Format] = {f.name: f for f in (
     Format("pdf", "report.pdf, the numbered design report with every figure as a page"),
@@ -43,16 +52,17 @@ FORMATS: dict[str, Format] = {f.name: f for f in (
     Format("png", "a PNG of every figure (plan, sections, cross-section, clearances, gradient; "
                   "with 'design' also pareto and options), at --dpi"),
     Format("svg", "an SVG of every figure"),
-    Format("dxf", "plan.dxf, the plan for CAD", needs="ezdxf", extra="cad"),
     Format("csv", "setting_out.csv, the setting-out stations"),
     Format("json", "result.json (and design.json with 'design'), every value in SI"),
+    _export("dxf"), _export("ifc"), _export("mesh"), _export("html"),
 )}
 
 #: What ``-o`` writes when ``--formats`` is not given: everything a design report is
 #: handed over with (the PDF to read and print, Markdown and PNG to read on screen, SVG
-#: to edit, the setting-out CSV, the DXF for CAD, JSON for other tools).  The DXF only
-#: where its extra is installed, so the core install works without it.
-DEFAULT = ("pdf", "md", "png", "svg", "dxf", "csv", "json")
+#: to edit, the setting-out CSV, JSON for other tools, the DXF for CAD, the building model
+#: and mesh for BIM, the offline 3-D viewer).  The DXF, IFC and mesh only where their
+#: extras are installed, so the core install works without them.
+DEFAULT = ("pdf", "md", "png", "svg", "csv", "json", "dxf", "ifc", "mesh", "html")
 
 #: PNG resolution by default: 150 dpi puts an A3 sheet at 2480 x 1754 pixels, sharp on
 #: screen and in the Markdown report, in half the time of 300 dpi (the rasterising is the

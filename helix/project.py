@@ -248,7 +248,7 @@ class Project:
     >>> import dataclasses, helix
     >>> p = helix.load_project(helix.demo_file("demo-metric"))
     >>> p
-    <Project 'Millbrook Street car park (invented demo)': 4 storeys, one-way, single helix, radius 9.00 m, 1 turns per storey; rules istructe-2011, vehicle aashto-p>
+    <Project 'Millbrook Street car park (invented demo)': 4 storeys, one-way, single helix, radius 9.000 m, 1 turns per storey; rules istructe-2011, vehicle aashto-p>
     >>> p.storeys, p.rules.name, p.vehicle.name
     (4, 'istructe-2011', 'aashto-p')
     >>> dataclasses.replace(p, traffic="sideways")
