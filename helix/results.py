@@ -535,7 +535,7 @@ def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str
                     f"{q.bays_per_level} ({q.bays_all_levels})"])
         if s is not None:
             # The option's name, then what binds it, down the first column (narrow tables).
-            side = [name, "bound by", s.key or "-"] if s.key else [name]
+            side = [name, "bound by", *_wrap(in_words(s.key), 24)] if s.key else [name]
             for i, r in enumerate(s.rows):
                 step = "1 %" if r.parameter == "gradient" else (
                     f"{r.step * 1000:.0f} mm" if u == "metric" else f"{format_length(r.step, u)} ({r.step * 1000:.0f} mm)")
@@ -544,6 +544,7 @@ def comparison_tables(result) -> list[tuple[str, list[str], list[list[str]], str
                 sens.append([side[i] if i < len(side) else "", f"{SHORT_PARAMETERS[r.parameter]} ±{step}",
                              _plus_minus(r.d_radius, u), _plus_minus(r.d_diameter, u),
                              switch or ("fixed" if not s.movable else "")])
+            sens += [[more, "", "", "", ""] for more in side[len(s.rows):]]
         for i, k in enumerate(c.tightest):
             marg.append([name if i == 0 else "", check_title(k.id), _margin_text(k, u), k.status])
     speed_text = format_speed(speed if speed is not None else 15 / 3.6, u)
