@@ -120,6 +120,28 @@ def test_dxf_is_in_site_grid_coordinates():
         assert off.max() < 1e-3
 
 
+def test_dxf_draws_a_polygon_plot_and_its_no_build_zones():
+    ezdxf = pytest.importorskip("ezdxf")
+    pytest.importorskip("shapely")
+    from helix.exports.dxf import plan_dxf
+    project = helix.load_project(helix.demo_file("demo-lshaped"))
+    doc = ezdxf.read(io.StringIO(plan_dxf(helix.evaluate(project)).decode()))
+    rings = [[tuple(p[:2]) for p in pl.get_points()] for pl in doc.modelspace().query("LWPOLYLINE")]
+    # The corners as written in configs/demo-lshaped.yaml (no site grid: plot = grid).
+    corners = {(0, 0), (44, 0), (44, 17), (30, 17), (30, 40), (0, 40)}
+    assert any({(round(x, 6), round(y, 6)) for x, y in r} == corners for r in rings)
+    # Every zone drawn: two columns of radius 0.4 m (their outlines within 1 mm of the
+    # circle; 96 chords of a 0.4 m circle fall 0.2 mm inside it) and the lift shaft.
+    zones = project.site.no_build
+    assert len(rings) == 1 + len(zones)
+    for zone in zones:
+        if zone.polygon is None:
+            ring = next(r for r in rings if len(r) == 96 and
+                        abs(np.mean([p[0] for p in r]) - zone.centre[0]) < 1e-6)
+            dist = [math.hypot(x - zone.centre[0], y - zone.centre[1]) for x, y in ring]
+            assert max(abs(d - zone.radius) for d in dist) < 1e-3
+
+
 # --- IFC ----------------------------------------------------------------------------
 
 ifcopenshell = pytest.importorskip("ifcopenshell") if importlib.util.find_spec("ifcopenshell") else None

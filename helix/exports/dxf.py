@@ -130,8 +130,16 @@ def plan_dxf(ev: Evaluation) -> bytes:
                            dxfattribs={"layer": "STRUCTURE"})
         if h.core_radius > 0:
             msp.add_circle((cx, cy), h.core_radius, dxfattribs={"layer": "STRUCTURE"})
-        w, d = proj.site.width, proj.site.depth
-        msp.add_lwpolyline([at(0, 0), at(w, 0), at(w, d), at(0, d)], close=True, dxfattribs={"layer": "STRUCTURE"})
+        site = proj.site
+        if site.boundary is not None:
+            outline = list(site.boundary)
+        else:
+            outline = [(0.0, 0.0), (site.width, 0.0), (site.width, site.depth), (0.0, site.depth)]
+        msp.add_lwpolyline([at(x, y) for x, y in outline], close=True, dxfattribs={"layer": "STRUCTURE"})
+        for zone in site.no_build:  # columns, cores, shafts: kept clear of the helix
+            from ..plot import zone_outline
+            msp.add_lwpolyline([at(x, y) for x, y in zone_outline(zone)], close=True,
+                               dxfattribs={"layer": "STRUCTURE"})
         msp.add_text(f"{proj.name}: helix plan, metres, site grid. Design aid only: verify against the codes "
                      "in force.", height=0.35, dxfattribs={"layer": "TEXT", "rotation": turn}).set_placement(at(0.0, -1.0))
         stream = io.StringIO()
