@@ -40,6 +40,7 @@ from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
 from helix.cli import main
+from helix.keys import sections
 
 CONFIGS = Path(__file__).resolve().parent.parent / "configs"
 DEMO_NAMES = ("demo-metric", "demo-double", "demo-search")
@@ -47,14 +48,15 @@ DEMO_TEXT = {n: (CONFIGS / f"{n}.yaml").read_text(encoding="utf-8") for n in DEM
 DEMOS = {n: yaml.safe_load(text) for n, text in DEMO_TEXT.items()}
 
 TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design")
-#: Every key a project file may hold anywhere (README, project.py): generated unknown keys avoid them.
+#: Every key a project file may hold anywhere (helix.keys declares them; rule files add
+#: title, value, source): generated unknown keys avoid them.
 VALID_KEYS = frozenset(TOP_KEYS + (
     "name", "notes", "level", "height", "bearing", "slab_depth", "hanging_depth", "wall_thickness",
     "cover_soffit", "width", "depth", "margin", "use", "override", "layout", "layouts", "centre_radius",
     "min", "max", "lane_width", "central_kerb", "divider", "turns_per_storey", "choices", "hand",
     "start_bearing", "landing_length", "transition", "length", "kind", "cross_fall",
     "cross_fall_direction", "landing_fall", "keep", "connections", "objective", "target_gradient",
-    "title", "value", "source"))
+    "title", "value", "source")) | {key.name for section in sections().values() for key in section.keys}
 #: Messages about the whole file (no key path), from helix.library_files.read_yaml.
 WHOLE_FILE = ("file not found", "is a folder", "cannot be read", "is not UTF-8 text", "YAML does not parse",
               "YAML nests too deeply", "file is empty", "expected a mapping of keys to values at the top",
