@@ -21,6 +21,9 @@ CHECK_FILES = {
     "dxf": {"plan.dxf"},
     "csv": {"setting_out.csv"},
     "json": {"result.json"},
+    "ifc": {"model.ifc"},
+    "mesh": {"model.glb", "model.obj"},
+    "html": {"model.html"},
 }
 
 
@@ -40,7 +43,8 @@ def test_parse_formats_keeps_table_order_and_ignores_case_and_spaces():
 
 
 @pytest.mark.parametrize("option, value, expected", [
-    ("--formats", "pdf,xyz", "unknown format 'xyz'; expected a comma-separated list of pdf, md, png, svg, dxf, csv, json"),
+    ("--formats", "pdf,xyz", "unknown format 'xyz'; expected a comma-separated list of pdf, md, png, svg, csv, json, dxf, ifc, mesh, "
+                                    "html"),
     ("--formats", ",", "expected a comma-separated list of"),
     ("--dpi", "20", "expected a whole number of dots per inch from 50 to 600"),
     ("--dpi", "high", "got 'high'"),
