@@ -137,12 +137,19 @@ def axis_of(site: Site) -> Axis:
     return best_axis(site)
 
 
+#: Smallest setback worth buffering by, m (a nanometre; far below any drawing tolerance).
+MIN_SETBACK = 1e-9
+
+
 def _region(site: Site) -> Any:
     """The allowed region, approximated from outside (chords of rounded setback corners
     and of circular zones lie inside the true curves), to find the centre only."""
     import shapely
     plot, zones = _geometry(site)
-    region = plot.buffer(-site.margin, quad_segs=_QUAD_SEGS) if site.margin > 0 else plot
+    # GEOS returns an empty polygon for an inward buffer of a subnormal distance (7e-286 m):
+    # a setback below MIN_SETBACK is taken as none here.  That region contains the true
+    # one, so the centre found in it is still re-measured exactly and ``upper`` still bounds.
+    region = plot.buffer(-site.margin, quad_segs=_QUAD_SEGS) if site.margin > MIN_SETBACK else plot
     for _name, g, grow in zones:
         region = region.difference(g.buffer(grow, quad_segs=_QUAD_SEGS) if grow > 0 else g)
     return region

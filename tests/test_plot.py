@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 import yaml
-from hypothesis import given, settings, strategies as st
+from hypothesis import example, given, settings, strategies as st
 
 shapely = pytest.importorskip("shapely")
 
@@ -31,6 +31,8 @@ def _star(radii, cx=20.0, cy=20.0):
 @settings(max_examples=25, deadline=None)
 @given(st.lists(st.floats(4.0, 18.0), min_size=3, max_size=9), st.floats(0.0, 1.5),
        st.booleans())
+# A subnormal setback once made the allowed region empty: "no room" for a 5.2 m circle.
+@example(radii=[7.012295760805667, 12.0, 14.0], setback=7.0106300775920615e-286, with_zone=False)
 def test_largest_inscribed_circle_against_a_grid(radii, setback, with_zone):
     # Reference: a general-purpose geometry library (shapely/GEOS distance) over a dense
     # grid of candidate centres. Common practice, no single source.
