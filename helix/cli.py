@@ -283,8 +283,10 @@ def _check_outputs(result, project, stations, comparisons=(), option=None, searc
     finally:
         if job is not None:
             job.result()  # reap the children even when this run fails
-        for fig in figs.values():
-            fig.clear()  # sheets are not registered with pyplot: clearing frees them
+        if figs:
+            from .figures import close_sheet
+            for fig in figs.values():
+                close_sheet(fig)
     return files
 
 

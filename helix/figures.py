@@ -38,7 +38,7 @@ from .plot import axis_of, footprint_span, nearest_limit, setback_outline, zone_
 from .site_grid import grid_bearing, north_angle
 from .units import FOOT, format_length, format_level
 
-__all__ = ["plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "pareto_figure",
+__all__ = ["close_sheet", "plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "pareto_figure",
            "gradient_figure", "figure_bytes", "FIGURES", "start_render", "RenderJob", "PngJob", "PNG_DPI", "render_all",
            "STYLE", "PALETTE", "SHEET_OF", "A4_LANDSCAPE", "drawing_scale", "section_cut_bearing", "drawn_texts",
            "turns_at"]
@@ -1185,7 +1185,7 @@ def figure_bytes(name: str, fig, formats: tuple[str, ...] = ("png", "svg"), dpi:
         with _styled():
             return {f"{name}.{fmt}": _save(fig, fmt, dpi) for fmt in ("png", "svg") if fmt in formats}
     finally:
-        _close(fig)
+        close_sheet(fig)
 
 
 #: Figures of one design, in report order: file stem, maker, caption.
@@ -1213,7 +1213,7 @@ def render_all(ev: Evaluation, keep: dict | None = None, formats: tuple[str, ...
     finally:
         if keep is None:
             for fig in figs.values():
-                _close(fig)
+                close_sheet(fig)
 
 
 def start_render(ev: Evaluation, keep: dict, formats: tuple[str, ...] = ("png", "svg"),
@@ -1316,7 +1316,7 @@ class RenderJob:
 PngJob = RenderJob
 
 
-def _close(fig: Figure) -> None:
+def close_sheet(fig: Figure) -> None:
     """Release a sheet's artists (sheets are not registered with pyplot)."""
     fig.clear()
 

@@ -311,10 +311,6 @@ class Project:
         return len(self.levels) - 1
 
 
-_TOP_KEYS = ("project", "units", "levels", "structure", "site", "traffic", "vehicle", "rules", "design",
-             "comparison", "drawing")
-
-
 def _levels(node: Node) -> tuple[tuple[Level, ...], bool]:
     if isinstance(node.data, list) and len(node.data) > MAX_LEVELS:
         raise node.error(f"got {len(node.data)} levels; expected at most {MAX_LEVELS}")

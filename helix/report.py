@@ -753,8 +753,9 @@ def _figures(ev: Evaluation, result, given: dict | None) -> tuple[dict, dict]:
 
 
 def _close(figs: dict) -> None:
-    # Sheets are made without pyplot (no figure manager holds them): dropping them frees them.
-    figs.clear()
+    from .figures import close_sheet
+    for fig in figs.values():
+        close_sheet(fig)
 
 
 def report_pages(ev: Evaluation, *, option=None, result=None, comparisons: list[Evaluation] | None = None,

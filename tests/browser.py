@@ -35,9 +35,14 @@ class _Pipe:
         self.send, self.receive, self.buffer, self.next_id = send, receive, b"", 0
         self.events: list[dict] = []
 
-    def call(self, method: str, timeout: float = 30.0, **params) -> dict:
+    def call(self, method: str, timeout: float = 30.0, session: str | None = None, **params) -> dict:
+        """Send one command (to the page ``session`` if given) and wait for its answer,
+        keeping the events that arrive meanwhile."""
         self.next_id += 1
-        os.write(self.send, json.dumps({"id": self.next_id, "method": method, "params": params}).encode() + b"\0")
+        msg = {"id": self.next_id, "method": method, "params": params}
+        if session is not None:
+            msg["sessionId"] = session
+        os.write(self.send, json.dumps(msg).encode() + b"\0")
         deadline = time.monotonic() + timeout
         while True:
             msg = self.read(deadline)
@@ -98,17 +103,7 @@ def load(url: str, expression: str, settle: float = 1.0) -> dict:
         session = pipe.call("Target.attachToTarget", targetId=target, flatten=True)["sessionId"]
 
         def call(method: str, **params) -> dict:
-            pipe.next_id += 1
-            msg = {"id": pipe.next_id, "sessionId": session, "method": method, "params": params}
-            os.write(pipe.send, json.dumps(msg).encode() + b"\0")
-            deadline = time.monotonic() + 30
-            while True:
-                answer = pipe.read(deadline)
-                if answer.get("id") == pipe.next_id:
-                    if "error" in answer:
-                        raise RuntimeError(f"{method}: {answer['error']}")
-                    return answer.get("result", {})
-                pipe.events.append(answer)
+            return pipe.call(method, session=session, **params)
 
         for domain in ("Page", "Runtime", "Log"):
             call(f"{domain}.enable")
