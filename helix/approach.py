@@ -43,7 +43,7 @@ from .geometry import TWO_PI, Helix, Thread
 from .roots import brent_minimum_many
 
 __all__ = ["Approach", "ApproachLine", "ApproachResult", "parse_approach", "approach_lines",
-           "overhead_clear", "measure_approach", "APPROACH_SIDES"]
+           "overhead_clear", "measure_approach", "measure_approaches", "APPROACH_SIDES"]
 
 APPROACH_SIDES = ("before", "after", "ahead")
 _STEP = 0.05
@@ -198,14 +198,13 @@ def approach_lines(project, helix: Helix) -> list[ApproachLine]:
     return out
 
 
-def overhead_clear(helix: Helix, structure, x, y, level, exclude: tuple[int, float] | None = None,
-                   labels: bool = False):
+def overhead_clear(helix: Helix, structure, x, y, level, exclude=None, labels: bool = False):
     """Clear height over plan points ``(x, y)`` at running level ``level``: the gap to the
     nearest helix surface (or cover soffit) above, less the structure's depth.
 
-    ``exclude = (thread, theta)`` leaves out that thread within half a turn of plan angle
-    ``theta`` (the turn the aisle joins).  Returns ``(clear, names)``; ``clear`` is
-    ``inf`` where nothing is overhead."""
+    ``exclude = (thread, theta)`` (each one value, or one per point) leaves out that
+    thread within half a turn of plan angle ``theta`` (the turn the aisle joins).
+    Returns ``(clear, names)``; ``clear`` is ``inf`` where nothing is overhead."""
     x, y = np.atleast_1d(np.asarray(x, float)), np.atleast_1d(np.asarray(y, float))
     z = np.broadcast_to(np.asarray(level, float), x.shape)
     cx, cy = helix.centre
@@ -214,26 +213,32 @@ def overhead_clear(helix: Helix, structure, x, y, level, exclude: tuple[int, flo
     best = np.full(x.shape, np.inf)
     which = np.full(x.shape, -1)
     names: list[str] = []
+    if exclude is not None:
+        ex_thread = np.broadcast_to(np.asarray(exclude[0]), x.shape)
+        ex_theta = np.broadcast_to(np.asarray(exclude[1], float), x.shape)
     for j, u in enumerate(helix.threads):
         inside = (rho >= u.inner_radius - 1e-9) & (rho <= u.outer_radius + 1e-9)
         if not np.any(inside):
             continue
+        own = ex_thread == j if exclude is not None else np.zeros(x.shape, bool)
         base = np.mod(u.hand * (beta - u.start_bearing) - u.profile.start, TWO_PI) + u.profile.start
         turns = int(math.ceil((u.profile.end - u.profile.start) / TWO_PI)) + 1
-        for k in range(turns + 1):
-            th = base + TWO_PI * k
-            zz = u.level(th, rho)
-            gap = zz - z
-            # A surface level with the aisle is crossed at grade, not passed under.
-            ok = inside & np.isfinite(gap) & (gap > _AT_GRADE) & (gap < best)
-            if exclude is not None and j == exclude[0]:
-                ok &= np.abs(th - exclude[1]) >= math.pi
-            if np.any(ok):
-                label = u.name if exclude is None or j != exclude[0] else "another turn of the same thread"
-                if label not in names:
-                    names.append(label)
-                best = np.where(ok, gap, best)
-                which = np.where(ok, names.index(label), which)
+        # Every turn of the thread over each point at once: (points, turns).
+        th = base[:, None] + TWO_PI * np.arange(turns + 1)[None, :]
+        gap = u.level(th, rho[:, None]) - z[:, None]
+        # A surface level with the aisle is crossed at grade, not passed under.
+        above = np.isfinite(gap) & (gap > _AT_GRADE)
+        if exclude is not None:
+            above &= ~own[:, None] | (np.abs(th - ex_theta[:, None]) >= math.pi)
+        nearest = np.min(np.where(above, gap, np.inf), axis=1)
+        ok = inside & (nearest < best)
+        if np.any(ok):
+            for label, take in ((u.name, ok & ~own), ("another turn of the same thread", ok & own)):
+                if np.any(take):
+                    if label not in names:
+                        names.append(label)
+                    which = np.where(take, names.index(label), which)
+            best = np.where(ok, nearest, best)
     clear = best - structure.depth
     if structure.cover_soffit is not None:
         cover = structure.cover_soffit - z
@@ -247,6 +252,41 @@ def overhead_clear(helix: Helix, structure, x, y, level, exclude: tuple[int, flo
     return clear, [names[w] if w >= 0 else "nothing" for w in which]
 
 
+class _Aisles:
+    """Plan points along many approach lines at once: each line's segments padded to a
+    table, so a point on line ``n`` at distance ``d`` is found with the arithmetic of
+    :meth:`ApproachLine.at`."""
+
+    def __init__(self, lines: list[ApproachLine]):
+        most = max(len(line.vertices) - 1 for line in lines)
+        n = len(lines)
+        self.vert = np.zeros((n, most, 2))
+        self.unit = np.zeros((n, most, 2))
+        self.ends = np.full((n, most + 1), np.inf)
+        for i, line in enumerate(lines):
+            seg = np.diff(line.vertices, axis=0)
+            lens = np.hypot(seg[:, 0], seg[:, 1])
+            m = len(lens)
+            self.vert[i, :m] = line.vertices[:-1]
+            self.unit[i, :m] = seg / lens[:, None]
+            self.ends[i, :m + 1] = np.concatenate([[0.0], np.cumsum(lens)])
+        self.floor = np.array([line.floor_level for line in lines])
+        self.grade = np.array([line.grade for line in lines])
+
+    def at(self, n: np.ndarray, d: np.ndarray, offset: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        # The segment: how many of the line's interior segment ends lie at or before d.
+        j = np.sum(self.ends[n, 1:-1] <= d[:, None], axis=1) if self.ends.shape[1] > 2 else np.zeros(len(n), int)
+        j = np.minimum(j, np.sum(np.isfinite(self.ends[n]), axis=1) - 2)
+        u = self.unit[n, j]
+        p = self.vert[n, j] + u * (d - self.ends[n, j])[:, None]
+        normal = np.stack([-u[:, 1], u[:, 0]], axis=1)
+        p = p + offset[:, None] * normal
+        return p[:, 0], p[:, 1]
+
+    def level(self, n: np.ndarray, d: np.ndarray) -> np.ndarray:
+        return self.floor[n] + self.grade[n] * d
+
+
 @dataclass(frozen=True)
 class ApproachResult:
     line: ApproachLine
@@ -258,47 +298,71 @@ class ApproachResult:
 
 def measure_approach(helix: Helix, structure, line: ApproachLine) -> ApproachResult:
     """The smallest clear height over ``line``'s aisle: its centre and both lane edges."""
-    exclude = (line.thread, line.connection)
-    length = line.length
-    grid = np.linspace(0.0, length, max(int(math.ceil(length / _STEP)), 1) + 1)
-    offsets = np.array([-0.5 * line.lane_width, 0.0, 0.5 * line.lane_width])
+    return measure_approaches(helix, structure, [line])[0]
 
-    def f(d, off):
-        x, y = line.at(d, off)
-        return overhead_clear(helix, structure, x, y, line.aisle_level(d), exclude)[0]
 
-    # The grid of all three lines in one call; then the three refinements in lockstep
-    # (the same Brent steps as one at a time, sharing the calls).
-    n = len(grid)
-    c_all = f(np.tile(grid, 3), np.repeat(offsets, n)).reshape(3, n)
-    rows, lo, hi, start = [], [], [], []
-    for i in range(3):
-        c = c_all[i]
+def measure_approaches(helix: Helix, structure, lines) -> tuple[ApproachResult, ...]:
+    """:func:`measure_approach` of every line, all in shared calls: the grids of every
+    line and lane edge in one, then every refinement in lockstep (the same Brent steps
+    as one at a time)."""
+    lines = list(lines)
+    if not lines:
+        return ()
+    table = _Aisles(lines)
+    thread = np.array([line.thread for line in lines])
+    connection = np.array([line.connection for line in lines])
+
+    def f(n, d, off):
+        x, y = table.at(n, d, off)
+        return overhead_clear(helix, structure, x, y, table.level(n, d), (thread[n], connection[n]))[0]
+
+    # One job per line and lane edge (right edge, centre, left edge), each on its grid.
+    grids, job_line, job_off = [], [], []
+    for i, line in enumerate(lines):
+        length = line.length
+        grid = np.linspace(0.0, length, max(int(math.ceil(length / _STEP)), 1) + 1)
+        for off in (-0.5 * line.lane_width, 0.0, 0.5 * line.lane_width):
+            grids.append(grid)
+            job_line.append(i)
+            job_off.append(off)
+    sizes = [len(g) for g in grids]
+    jl = np.array(job_line)
+    jo = np.array(job_off)
+    every = np.repeat(np.arange(len(grids)), sizes)
+    c_all = np.split(f(jl[every], np.concatenate(grids), jo[every]), np.cumsum(sizes)[:-1])
+    start: dict[int, tuple[float, float]] = {}
+    lo, hi, refine = [], [], []
+    for n, (grid, c) in enumerate(zip(grids, c_all)):
         if not np.any(np.isfinite(c)):
             continue
         k = int(np.argmin(c))
-        rows.append(i)
-        lo.append(grid[max(k - 1, 0)])
-        hi.append(grid[min(k + 1, len(grid) - 1)])
-        start.append((float(grid[k]), float(c[k])))
-    rows_a = np.array(rows, int)
-    refine = np.array([h > l_ for l_, h in zip(lo, hi)], bool)
-    if np.any(refine):
-        sel = rows_a[refine]
-        x_m, f_m = brent_minimum_many(lambda idx, s: f(s, offsets[sel[idx]]),
-                                      np.array(lo)[refine], np.array(hi)[refine], xtol=1e-6)
-        found = dict(zip(sel.tolist(), zip(x_m.tolist(), f_m.tolist())))
-    else:
-        found = {}
-    best = (math.inf, 0.0, 0.0)
-    for i, (d_min, c_min) in zip(rows, start):
-        if i in found and found[i][1] < c_min:
-            d_min, c_min = found[i]
-        if c_min < best[0]:
-            best = (c_min, d_min, float(offsets[i]))
-    clear, d, off = best
-    above = "nothing"
-    if math.isfinite(clear):
-        x, y = line.at(d, off)
-        above = overhead_clear(helix, structure, x, y, line.aisle_level(d), exclude, labels=True)[1][0]
-    return ApproachResult(line, clear, d, off, above)
+        start[n] = (float(grid[k]), float(c[k]))
+        a, b = grid[max(k - 1, 0)], grid[min(k + 1, len(grid) - 1)]
+        if b > a:
+            refine.append(n)
+            lo.append(a)
+            hi.append(b)
+    found: dict[int, tuple[float, float]] = {}
+    if refine:
+        sel = np.array(refine)
+        x_m, f_m = brent_minimum_many(lambda idx, s: f(jl[sel[idx]], s, jo[sel[idx]]),
+                                      np.array(lo), np.array(hi), xtol=1e-6)
+        found = dict(zip(refine, zip(x_m.tolist(), f_m.tolist())))
+    best = [(math.inf, 0.0, 0.0)] * len(lines)
+    for n, (d_min, c_min) in start.items():
+        if n in found and found[n][1] < c_min:
+            d_min, c_min = found[n]
+        if c_min < best[job_line[n]][0]:
+            best[job_line[n]] = (c_min, d_min, job_off[n])
+    # What is overhead at each line's lowest point: one call for all.
+    hit = [i for i in range(len(lines)) if math.isfinite(best[i][0])]
+    above = ["nothing"] * len(lines)
+    if hit:
+        n_h = np.array(hit)
+        d_h = np.array([best[i][1] for i in hit])
+        x, y = table.at(n_h, d_h, np.array([best[i][2] for i in hit]))
+        names = overhead_clear(helix, structure, x, y, table.level(n_h, d_h),
+                               (thread[n_h], connection[n_h]), labels=True)[1]
+        for i, name in zip(hit, names or []):
+            above[i] = name
+    return tuple(ApproachResult(line, c, d, off, above[i]) for i, (line, (c, d, off)) in enumerate(zip(lines, best)))

@@ -14,13 +14,14 @@ evaluates any points, for figures and for brute-force cross-checks.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
 from .geometry import TWO_PI, Helix, Thread
 from .project import Structure
 
-__all__ = ["HeadroomPoint", "overhead_shifts", "headroom", "minimum_headroom", "check_radii"]
+__all__ = ["HeadroomPoint", "Overhead", "overhead_shifts", "headroom", "minimum_headroom", "check_radii"]
 
 
 @dataclass(frozen=True)
@@ -67,27 +68,30 @@ def check_radii(thread: Thread) -> tuple[float, float, float]:
     return (thread.inner_radius, thread.centre_radius, thread.outer_radius)
 
 
-def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float, labels: bool = True):
-    """Clear headroom and gap over thread ``i`` at plan angles ``theta`` and ``radius``.
-
-    Returns ``(clear, gap, above)``: arrays of clear headroom and gap (``inf`` where
-    nothing is overhead) and a list naming what is overhead at each point.
-    """
+def _headroom(helix: Helix, structure: Structure, i: int, theta, radius,
+              shifts: list[tuple[int, float]] | None):
+    """:func:`headroom` without the labels, and the thread's own profile level too."""
     t = helix.threads[i]
     th = np.atleast_1d(np.asarray(theta, float))
-    z = t.level(th, radius)
+    # The profile's own level once, the cross-fall added as Thread.level adds it.
+    z_profile = t.profile.level(th)
+    z = z_profile + t.cross_fall * (np.asarray(radius, float) - t.centre_radius)
     best = np.full(th.shape, np.inf)
     clear = np.full(th.shape, np.inf)
     above = np.full(th.shape, -1, dtype=int)
     found: list[str] = []
-    for j, shift in overhead_shifts(helix, i):
+    many = np.ndim(radius) > 0
+    for j, shift in overhead_shifts(helix, i) if shifts is None else shifts:
         u = helix.threads[j]
-        if not u.covers(radius):
+        covered = (u.inner_radius - 1e-9 <= np.asarray(radius)) & (np.asarray(radius) <= u.outer_radius + 1e-9)
+        if not np.any(covered):
             continue
         gap = u.level(th + shift, radius) - z
         # Above or touching (a storey flatter than the structure is deep): a surface
         # level with this one leaves no headroom at all, not a pass.
         take = np.isfinite(gap) & (gap > -_TOUCH) & (gap < best)
+        if many:
+            take &= covered
         if np.any(take):
             found.append(u.name if j != i else "the same thread, a turn higher")
             best = np.where(take, gap, best)
@@ -101,10 +105,91 @@ def headroom(helix: Helix, structure: Structure, i: int, theta, radius: float, l
             best = np.where(take, gap, best)
             clear = np.where(take, gap, clear)
             above = np.where(take, len(found) - 1, above)
+    return clear, best, above, found, z_profile
+
+
+def headroom(helix: Helix, structure: Structure, i: int, theta, radius, labels: bool = True,
+             shifts: list[tuple[int, float]] | None = None):
+    """Clear headroom and gap over thread ``i`` at plan angles ``theta`` and ``radius``
+    (one radius, or one per point), from the surfaces ``shifts`` (default: all of
+    :func:`overhead_shifts`).
+
+    Returns ``(clear, gap, above)``: arrays of clear headroom and gap (``inf`` where
+    nothing is overhead) and a list naming what is overhead at each point.
+    """
+    clear, best, above, found, _ = _headroom(helix, structure, i, theta, radius, shifts)
     if not labels:
         return clear, best, None
     names = [found[a] if a >= 0 else "nothing" for a in above]
     return clear, best, names
+
+
+@dataclass(frozen=True, eq=False)
+class Overhead:
+    """The underside of whatever lies over thread ``i``, in the frame of that thread's
+    own profile: ``level(theta, r)`` is the profile's level plus the clear headroom
+    (:func:`headroom`), so on the wheel path of radius ``r`` the gap to it is the clear
+    height over that path.  Between :attr:`breaks` each surface overhead is one
+    quadratic in ``theta`` (plus a constant for the cross-falls), and :attr:`curves`
+    lists the pieces that curve: a line under it comes closest at a break, at an end, or
+    where a curved piece runs parallel to it.
+    """
+
+    helix: Helix
+    structure: Structure
+    i: int
+
+    @cached_property
+    def shifts(self) -> list[tuple[int, float]]:
+        """The surfaces of :func:`overhead_shifts` that are ever above this thread.
+
+        Threads on one axis do not cross, so a surface below at one place is below
+        wherever it is over the thread; to be exact rather than rely on that, a surface
+        is left out only if its gap is below touching at every critical angle (where a
+        piecewise-quadratic gap has its extremes) at both edges of the radii it covers
+        (the gap is linear across them)."""
+        h, i = self.helix, self.i
+        t = h.threads[i]
+        angles = _critical_angles(h, i)
+        keep = []
+        for j, shift in overhead_shifts(h, i):
+            u = h.threads[j]
+            lo, hi = max(t.inner_radius, u.inner_radius), min(t.outer_radius, u.outer_radius)
+            if hi < lo - 1e-9:
+                continue
+            gaps = [u.level(angles + shift, r) - t.level(angles, r) for r in (lo, hi)]
+            if np.any(np.concatenate(gaps) > -_TOUCH):
+                keep.append((j, shift))
+        return keep
+
+    def level(self, theta, radius) -> np.ndarray:
+        """Soffit level over plan angles ``theta`` at ``radius`` (arrays of one shape);
+        ``inf`` where nothing is overhead."""
+        th = np.asarray(theta, float)
+        clear, _, _, _, z_profile = _headroom(self.helix, self.structure, self.i, th.ravel(),
+                                              np.broadcast_to(np.asarray(radius, float), th.shape).ravel(),
+                                              self.shifts)
+        return (z_profile + clear).reshape(th.shape)
+
+    @cached_property
+    def breaks(self) -> np.ndarray:
+        """Plan angles (this thread's) of every breakpoint of the surfaces overhead and of
+        this thread's own alignment (where the soffit begins and ends)."""
+        own = self.helix.threads[self.i].profile.t
+        pts = [own] + [self.helix.threads[j].profile.t - shift for j, shift in self.shifts]
+        return np.unique(np.concatenate(pts))
+
+    @cached_property
+    def curves(self) -> tuple[tuple[np.ndarray, ...], ...]:
+        """Per surface overhead, ``(a, b, base, k, q)`` of its curved pieces in order:
+        on ``[a, b]`` its slope is ``k + q (theta - base)`` metres per radian."""
+        out = []
+        for j, shift in self.shifts:
+            p = self.helix.threads[j].profile
+            s = np.flatnonzero(np.abs(p.q) > 0)
+            if s.size:
+                out.append((p.t[s] - shift, p.t[s + 1] - shift, p.t[s] - shift, p.k[s], p.q[s]))
+        return tuple(out)
 
 
 def _critical_angles(helix: Helix, i: int) -> np.ndarray:

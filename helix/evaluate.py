@@ -13,14 +13,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import checks as ck
-from .approach import approach_lines, measure_approach
-from .clearance import HeadroomPoint, headroom, minimum_headroom
+from .approach import approach_lines, measure_approaches
+from .clearance import HeadroomPoint, Overhead, headroom, minimum_headroom
 from .errors import DesignError
 from .geometry import Helix, Lane, Thread
 from .layout import build_helix
 from .project import Project
 from .units import format_length
-from .vehicle_clearance import GroundContact, PathProfile, minimum_clearance
+from .vehicle_clearance import GroundContact, PathProfile, minimum_clearances
 
 __all__ = ["StoreyResult", "SegmentResult", "Location", "Evaluation", "evaluate", "locate",
            "wheel_paths", "vehicle_positions", "gradient_lines"]
@@ -196,35 +196,32 @@ def vehicle_clearances(project: Project, helix: Helix) -> tuple[VehicleContact |
     body side (roof against the soffit overhead) of every lane, at each lateral position
     the lane allows (:func:`vehicle_positions`: hugging either kerb within its
     clearance, as the swept-width check places it); return the governing ground and
-    roof contacts."""
+    roof contacts.  All the paths of a thread are rolled together
+    (:func:`~helix.vehicle_clearance.minimum_clearances`)."""
     v = project.vehicle
     track = v.track if v.track is not None else v.width
     ground = roof = None
     for i, t in enumerate(helix.threads):
+        wheels: list[tuple[str, str, float]] = []
+        sides: list[tuple[str, str, float]] = []
         for lane in t.lanes:
             for where, rr in vehicle_positions(project, lane).items():
-                paths = {f"inner wheels, {where}": rr - 0.5 * track,
-                         f"outer wheels, {where}": rr + 0.5 * track}
-                for line, r in paths.items():
-                    res = minimum_clearance(v, PathProfile(t.profile, r), focus=0.005)
-                    for part, c in res.items():
-                        if ground is None or c.clearance < ground.contact.clearance:
-                            ground = VehicleContact(i, lane.name, line, r, c)
-                sides = {f"inner body side, {where}": rr - 0.5 * v.width,
-                         f"outer body side, {where}": rr + 0.5 * v.width}
-                for line, r in sides.items():
-                    path = PathProfile(t.profile, r)
+                wheels += [(lane.name, f"inner wheels, {where}", rr - 0.5 * track),
+                           (lane.name, f"outer wheels, {where}", rr + 0.5 * track)]
+                sides += [(lane.name, f"inner body side, {where}", rr - 0.5 * v.width),
+                          (lane.name, f"outer body side, {where}", rr + 0.5 * v.width)]
 
-                    def soffit(s_, path=path, r=r, i=i, t=t):
-                        theta = path.theta(s_)
-                        clear, _, _ = headroom(helix, project.structure, i, theta.ravel(), r, labels=False)
-                        return (t.profile.level(theta.ravel()) + clear).reshape(np.shape(s_))
-
-                    res = minimum_clearance(v, path, soffit=soffit, focus=0.005)
-                    c_roof = res.get("roof")
-                    if c_roof is not None and math.isfinite(c_roof.clearance) and (
-                            roof is None or c_roof.clearance < roof.contact.clearance):
-                        roof = VehicleContact(i, lane.name, line, r, c_roof)
+        on_ground, overhead = minimum_clearances(v, t.profile, [r for _, _, r in wheels], [r for _, _, r in sides],
+                                                 Overhead(helix, project.structure, i), focus=0.005)
+        for (lane_name, line, r), res in zip(wheels, on_ground):
+            for c in res.values():
+                if ground is None or c.clearance < ground.contact.clearance:
+                    ground = VehicleContact(i, lane_name, line, r, c)
+        for (lane_name, line, r), res in zip(sides, overhead):
+            c_roof = res.get("roof")
+            if c_roof is not None and math.isfinite(c_roof.clearance) and (
+                    roof is None or c_roof.clearance < roof.contact.clearance):
+                roof = VehicleContact(i, lane_name, line, r, c_roof)
     return ground, roof
 
 
@@ -334,8 +331,7 @@ def evaluate(project: Project, helix: Helix | None = None, vehicle: bool = True)
         results.append(ck.roof_clearance_check(project, roof.contact if roof else None,
                                                _contact_where(project, helix, roof)))
     results.append(ck.side_friction_check(project, helix))
-    approaches = tuple(measure_approach(helix, project.structure, line)
-                       for line in approach_lines(project, helix))
+    approaches = measure_approaches(helix, project.structure, approach_lines(project, helix))
     results += ck.approach_checks(project, helix, approaches)
     return Evaluation(project=project, helix=helix, checks=tuple(results),
                       storeys=tuple(_storeys(project, helix)), headroom=head, headroom_at=at,
