@@ -201,6 +201,7 @@ def vehicle_clearances(project: Project, helix: Helix) -> tuple[VehicleContact |
     v = project.vehicle
     track = v.track if v.track is not None else v.width
     ground = roof = None
+    rolled: dict[tuple, list[dict[str, GroundContact]]] = {}
     for i, t in enumerate(helix.threads):
         wheels: list[tuple[str, str, float]] = []
         sides: list[tuple[str, str, float]] = []
@@ -211,8 +212,15 @@ def vehicle_clearances(project: Project, helix: Helix) -> tuple[VehicleContact |
                 sides += [(lane.name, f"inner body side, {where}", rr - 0.5 * v.width),
                           (lane.name, f"outer body side, {where}", rr + 0.5 * v.width)]
 
-        on_ground, overhead = minimum_clearances(v, t.profile, [r for _, _, r in wheels], [r for _, _, r in sides],
-                                                 Overhead(helix, project.structure, i), focus=0.005)
+        # The ground clearances depend only on the profile and the wheel paths' radii:
+        # the congruent threads of a double helix share them.
+        key = (tuple(x.tobytes() for x in (t.profile.t, t.profile.z0, t.profile.k, t.profile.q)),
+               tuple(r for _, _, r in wheels))
+        known = rolled.get(key)
+        on_ground, overhead = minimum_clearances(v, t.profile, [] if known else [r for _, _, r in wheels],
+                                                 [r for _, _, r in sides], Overhead(helix, project.structure, i),
+                                                 focus=0.005)
+        on_ground = known or rolled.setdefault(key, on_ground)
         for (lane_name, line, r), res in zip(wheels, on_ground):
             for c in res.values():
                 if ground is None or c.clearance < ground.contact.clearance:
