@@ -48,6 +48,7 @@ __all__ = ["Approach", "ApproachLine", "ApproachResult", "parse_approach", "appr
 APPROACH_SIDES = ("before", "after", "ahead")
 _STEP = 0.05
 _AT_GRADE = 1e-6  # m
+_CELLS = 100_000  # points times turns per array in overhead_clear
 
 
 @dataclass(frozen=True)
@@ -223,14 +224,18 @@ def overhead_clear(helix: Helix, structure, x, y, level, exclude=None, labels: b
         own = ex_thread == j if exclude is not None else np.zeros(x.shape, bool)
         base = np.mod(u.hand * (beta - u.start_bearing) - u.profile.start, TWO_PI) + u.profile.start
         turns = int(math.ceil((u.profile.end - u.profile.start) / TWO_PI)) + 1
-        # Every turn of the thread over each point at once: (points, turns).
-        th = base[:, None] + TWO_PI * np.arange(turns + 1)[None, :]
-        gap = u.level(th, rho[:, None]) - z[:, None]
-        # A surface level with the aisle is crossed at grade, not passed under.
-        above = np.isfinite(gap) & (gap > _AT_GRADE)
-        if exclude is not None:
-            above &= ~own[:, None] | (np.abs(th - ex_theta[:, None]) >= math.pi)
-        nearest = np.min(np.where(above, gap, np.inf), axis=1)
+        # Many turns of the thread over each point at once, (points, turns), in chunks
+        # that keep the arrays small however many turns the thread has.
+        nearest = np.full(x.shape, np.inf)
+        chunk = max(1, _CELLS // max(len(x), 1))
+        for k0 in range(0, turns + 1, chunk):
+            th = base[:, None] + TWO_PI * np.arange(k0, min(k0 + chunk, turns + 1))[None, :]
+            gap = u.level(th, rho[:, None]) - z[:, None]
+            # A surface level with the aisle is crossed at grade, not passed under.
+            above = np.isfinite(gap) & (gap > _AT_GRADE)
+            if exclude is not None:
+                above &= ~own[:, None] | (np.abs(th - ex_theta[:, None]) >= math.pi)
+            nearest = np.minimum(nearest, np.min(np.where(above, gap, np.inf), axis=1))
         ok = inside & (nearest < best)
         if np.any(ok):
             for label, take in ((u.name, ok & ~own), ("another turn of the same thread", ok & own)):

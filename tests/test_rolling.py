@@ -236,3 +236,15 @@ def test_approaches_against_a_pointwise_brute_force(p):
         ref = [_overhead_pointwise(h, p.structure, a, b, c, (line.thread, line.connection))
                for a, b, c in zip(x, y, line.aisle_level(d[::50]))]
         assert np.allclose(vec, ref, atol=1e-12, rtol=0.0)
+
+
+def test_turns_taken_in_chunks_give_the_same_clear_heights(monkeypatch):
+    # Reference: the same measurement with every turn in one array (the default chunk
+    # holds all the turns of a demo); the chunks only bound the memory.
+    import helix.approach as approach
+    p = helix.load_project(helix.demo_file("demo-double"))
+    h = build_helix(p)
+    lines = approach_lines(p, h)
+    whole = measure_approaches(h, p.structure, lines)
+    monkeypatch.setattr(approach, "_CELLS", 7)
+    assert measure_approaches(h, p.structure, lines) == whole
