@@ -1,7 +1,10 @@
 """Where the time of a full report goes: one ``helix design -o`` run as a timeline of its
 stages (prints figures; asserts nothing).
 
-    python benchmarks/report_stages.py [PROJECT] [-- EXTRA OPTIONS FOR THE RUN, e.g. --dpi 300 --formats pdf,png]
+    python benchmarks/report_stages.py [PROJECT] [--old CHECKOUT] [-- EXTRA OPTIONS FOR THE RUN, e.g. --dpi 300]
+
+With ``--old`` (a folder holding an earlier ``helix`` package and its ``configs``, e.g.
+from ``git archive main helix configs``) that package is timed instead.
 
 One run in this process, the stages timed by wrapping helix's own functions (nothing in
 helix is changed): imports, the search, each figure drawn, the PDF, each PNG and SVG
@@ -36,7 +39,9 @@ def _stamp(label: str, wall0: float, cpu0: float) -> None:
 
 
 def _timed(owner, name: str, label: str | None = None) -> None:
-    real = getattr(owner, name)
+    real = getattr(owner, name, None)
+    if real is None:  # a stage an earlier helix does not have (see --old)
+        return
 
     def timed(*args, **kwargs):
         wall0, cpu0 = time.perf_counter(), time.process_time()
@@ -52,6 +57,14 @@ def main() -> None:
     extra: list[str] = []
     if "--" in argv:
         extra, argv = argv[argv.index("--") + 1:], argv[:argv.index("--")]
+    if "--old" in argv:
+        k = argv.index("--old")
+        old = os.path.abspath(argv[k + 1])
+        del argv[k:k + 2]
+        # The earlier package first on the path, ahead of an editable install's finder.
+        sys.meta_path[:] = [f for f in sys.meta_path if "__editable__" not in repr(f)]
+        sys.path.insert(0, old)
+        os.chdir(old)
     project = argv[0] if argv else "configs/demo-search.yaml"
     wall0, cpu0 = time.perf_counter(), time.process_time()
     import matplotlib.figure  # noqa: F401  (what any report needs first)

@@ -68,7 +68,10 @@ def main() -> None:
     cpu = "--cpu" in argv
     py = sys.executable
     search, metric = "configs/demo-search.yaml", "configs/demo-metric.yaml"
-    print(f"{os.cpu_count()} cores; medians of {repeat} runs; ratios against the import with scipy")
+    # Other people's jobs on the same cores stretch the wall times (and the CPU times a
+    # little): the load average before and after says how busy the machine was.
+    print(f"{os.cpu_count()} cores, load average {os.getloadavg()[0]:.2f}; medians of {repeat} runs; "
+          "ratios against the import with scipy")
     with tempfile.TemporaryDirectory() as tmp:
         def helix_runs(label: str, helix: list[str], more: list[str]) -> list[tuple[str, list[str]]]:
             return [(f"{label}design {search} -o DIR", helix + ["design", search, "-o", f"{tmp}/{label}d"] + more),
@@ -85,6 +88,7 @@ def main() -> None:
                     "runpy.run_module('helix', run_name='__main__')")
             cases += helix_runs("old: ", [py, "-c", boot], [])
         rows = medians(cases, repeat)
+    print(f"load average after the runs {os.getloadavg()[0]:.2f}")
     base, base_cpu = rows[0][1], rows[0][2]
     width = max(len(r[0]) for r in rows)
     print(f"{'run':{width}s}  {'wall s':>7s}  {'cpu s':>6s}  {'wall/import':>11s}" + ("  cpu/import" if cpu else ""))

@@ -76,7 +76,7 @@ def _parser() -> argparse.ArgumentParser:
                            formatter_class=argparse.RawDescriptionHelpFormatter)
     check.add_argument("project", help=PROJECT_HELP)
     check.add_argument("-o", "--output", metavar="DIR",
-                       help="also write the report, figures (PNG and SVG), setting_out.csv, plan.dxf and "
+                       help="also write the report (PDF, Markdown), figures (PNG), setting_out.csv, plan.dxf and "
                             "result.json to DIR (see --formats)")
     check.add_argument("--json", action="store_true", help="print the result as JSON instead of a table")
     check.add_argument("--rules", metavar="A,B,...", default=None,

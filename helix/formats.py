@@ -48,7 +48,8 @@ def _export(name: str) -> Format:
 #: Every format ``--formats`` accepts, in the order help lists them.
 FORMATS: dict[str, Format] = {f.name: f for f in (
     Format("pdf", "report.pdf, the numbered design report with every figure as a page"),
-    Format("md", "report.md, the same report in Markdown (its figures link to the PNG and SVG files)"),
+    Format("md", "report.md, the same report in Markdown (its figures show the PNG, and link the SVG, "
+                 "of those written)"),
     Format("png", "a PNG of every figure (plan, sections, cross-section, clearances, gradient; "
                   "with 'design' also pareto and options), at --dpi"),
     Format("svg", "an SVG of every figure"),
