@@ -66,7 +66,7 @@ DIRECTION_STYLE = {"up": ("#0072B2", (0, (9, 3, 2, 3))), "down": ("#D55E00", (0,
 #: raster and PDF looks the same everywhere).
 FONT = "DejaVu Sans"
 #: What an SVG viewer falls back to where DejaVu Sans is not installed: SVG text stays
-#: text (``svg.fonttype: none``: small files, editable, searchable, and a fifth of the
+#: text (``svg.fonttype: none``: smaller files, editable, searchable, and about half the
 #: time of text turned into paths), so its family is a CSS list ending in a generic one.
 SVG_FALLBACK = [FONT, "Bitstream Vera Sans", "Verdana", "Arial", "Helvetica", "sans-serif"]
 
