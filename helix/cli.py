@@ -76,7 +76,7 @@ def _parser() -> argparse.ArgumentParser:
                            formatter_class=argparse.RawDescriptionHelpFormatter)
     check.add_argument("project", help=PROJECT_HELP)
     check.add_argument("-o", "--output", metavar="DIR",
-                       help="also write the report, figures (PNG and SVG), setting_out.csv, plan.dxf and "
+                       help="also write the report (PDF, Markdown), figures (PNG), setting_out.csv, plan.dxf and "
                             "result.json to DIR (see --formats)")
     check.add_argument("--json", action="store_true", help="print the result as JSON instead of a table")
     check.add_argument("--rules", metavar="A,B,...", default=None,
@@ -120,11 +120,11 @@ def _output_options(sub: argparse.ArgumentParser) -> None:
                      help="what -o writes, from: " + "; ".join(
                          f"{f.name}: {f.writes}" + (f" (needs the '{f.extra}' extra)" if f.extra else "")
                          for f in FORMATS.values())
-                     + f".  Default {','.join(DEFAULT)}: everything a design report is handed over with "
-                       "(dxf only where its extra is installed)")
+                     + f".  Default {','.join(DEFAULT)}: what a design report is read, checked and set out "
+                       "from (dxf only where its extra is installed); the others on request")
     sub.add_argument("--dpi", metavar="N", default=None,
                      help=f"PNG resolution, {MIN_DPI} to {MAX_DPI} (default {DEFAULT_DPI}: sharp on screen and "
-                          "in half the time of 300; the PDF and SVG are vectors for print; 300 for a print raster)")
+                          "in half the time of 300; the PDF is vectors for print; 300 for a print raster)")
 
 
 def __getattr__(name: str) -> Any:
@@ -258,21 +258,24 @@ def _check_outputs(result, project, stations, comparisons=(), option=None, searc
     files: dict[str, bytes] = {}
     job = None
     try:
+        makers: dict = {}
+        if {"pdf", "md"} & set(formats):
+            from .report import report_makers
+            makers = report_makers(result, option=option, result=search, comparisons=list(comparisons),
+                                   spacing=spacing, figures=figs, formats=formats)
         if {"png", "svg", "pdf"} & set(formats):
-            # Each figure is drawn once and saved as often as asked: its PNG and SVG in
-            # other processes while this one lays out and writes the PDF.
+            # Each figure is drawn once and saved as often as asked: the PDF, laid out from
+            # the same Figure objects, in a process of its own, the PNG and SVG in others,
+            # while this one makes the rest.
             from .figures import start_render
-            files, job = start_render(result, figs, formats, dpi)
+            pdf = {n: makers.pop(n) for n in ("report.pdf",) if n in makers}
+            files, job = start_render(result, figs, formats, dpi, also=pdf)
+        files.update({name: make() for name, make in makers.items()})
         if "csv" in formats:
             from .setting_out import setting_out_csv
             files["setting_out.csv"] = setting_out_csv(result, spacing).encode()
         if "json" in formats:
             files["result.json"] = to_json(_result_data(result, list(comparisons))).encode()
-        if {"pdf", "md"} & set(formats):
-            from .report import report_files
-            report = report_files(result, option=option, result=search, comparisons=list(comparisons),
-                                  spacing=spacing, figures=figs, formats=formats)
-            files.update(report)
         for name in formats:
             writer = FORMATS[name].writer
             if writer is not None:
@@ -295,8 +298,9 @@ def _missing_exports(args: argparse.Namespace) -> None:
     not written (asked for by ``--formats``, a missing extra is an input error)."""
     if getattr(args, "formats", None) is not None:
         return
-    from .exports import missing_note
-    note = missing_note()
+    from .exports import FORMATS as EXPORTS, missing_note
+    from .formats import DEFAULT
+    note = missing_note(tuple(n for n in DEFAULT if n in EXPORTS))
     if note:
         sys.stdout.write(note + "\n")
 

@@ -40,7 +40,7 @@ from .units import FOOT, format_length, format_level
 
 __all__ = ["close_sheet", "plan_figure", "section_figure", "cross_section_figure", "clearance_figure", "pareto_figure",
            "gradient_figure", "figure_bytes", "FIGURES", "start_render", "RenderJob", "PngJob", "PNG_DPI", "render_all",
-           "STYLE", "PALETTE", "SHEET_OF", "A4_LANDSCAPE", "drawing_scale", "section_cut_bearing", "drawn_texts",
+           "STYLE", "FONT", "PALETTE", "SHEET_OF", "A4_LANDSCAPE", "drawing_scale", "section_cut_bearing", "drawn_texts",
            "turns_at"]
 
 # Okabe-Ito colours, each with a role that stays the same in every figure.
@@ -62,8 +62,17 @@ THREAD_COLOURS = ("#0072B2", "#D55E00", "#009E73", "#CC79A7")
 DIRECTION_STYLE = {"up": ("#0072B2", (0, (9, 3, 2, 3))), "down": ("#D55E00", (0, (5, 2.5))),
                    "up and down": ("#009E73", (0, (1.5, 2)))}
 
+#: The one typeface of every figure and of the report (matplotlib ships it, so every
+#: raster and PDF looks the same everywhere).
+FONT = "DejaVu Sans"
+#: What an SVG viewer falls back to where DejaVu Sans is not installed: SVG text stays
+#: text (``svg.fonttype: none``: smaller files, editable, searchable, and about half the
+#: time of text turned into paths), so its family is a CSS list ending in a generic one.
+SVG_FALLBACK = [FONT, "Bitstream Vera Sans", "Verdana", "Arial", "Helvetica", "sans-serif"]
+
 STYLE: dict[str, Any] = {
-    "font.family": "DejaVu Sans",
+    "font.family": [FONT, "sans-serif"],
+    "font.sans-serif": SVG_FALLBACK,
     "font.size": 8,
     "axes.titlesize": 9,
     "axes.labelsize": 8,
@@ -73,7 +82,7 @@ STYLE: dict[str, Any] = {
     "legend.fontsize": 7.5,
     "legend.frameon": False,
     "svg.hashsalt": "helix",
-    "svg.fonttype": "path",
+    "svg.fonttype": "none",
     # TrueType embedding: text in the PDF can be searched and copied.
     "pdf.fonttype": 42,
     "ps.fonttype": 42,
@@ -1157,6 +1166,10 @@ def _savefig(fig, fmt: str, dpi: int = PNG_DPI) -> bytes:
                                                  {"CreationDate": None, "ModDate": None})
     extra = {"pil_kwargs": {"compress_level": 1}} if fmt == "png" else {}
     fig.savefig(buf, format=fmt, dpi=dpi if fmt == "png" else 72, metadata=meta, **extra)
+    if fmt == "svg":
+        # SVG text collapses runs of spaces unless told not to: a note's indented second
+        # line keeps its indent, as on the PNG and the PDF.
+        return buf.getvalue().replace(b"<svg ", b'<svg xml:space="preserve" ', 1)
     return buf.getvalue()
 
 
@@ -1217,53 +1230,64 @@ def render_all(ev: Evaluation, keep: dict | None = None, formats: tuple[str, ...
 
 
 def start_render(ev: Evaluation, keep: dict, formats: tuple[str, ...] = ("png", "svg"),
-                 dpi: int = PNG_DPI) -> tuple[dict[str, bytes], "RenderJob"]:
+                 dpi: int = PNG_DPI, also: dict[str, Callable[[], bytes]] | None = None
+                 ) -> tuple[dict[str, bytes], "RenderJob"]:
     """Draw every figure of ``ev`` into ``keep`` (figures already in it, say the
     search's, are kept and saved too) and start a :class:`RenderJob` for their files in
-    ``formats`` (``png``, ``svg``): each figure is drawn once and saved as often as
-    needed.  Returns the files made here (none, when the job has a process of its own)
-    and the job; the caller works on (the PDF, say) and then collects it."""
+    ``formats`` (``png``, ``svg``) and for the files of ``also`` (file name -> a function
+    making its bytes from those figures: the PDF report): each figure is drawn once and
+    saved as often as needed.  Returns the files made here (none, when the job has
+    processes of its own) and the job; the caller works on (the exports, say) and then
+    collects it."""
     for name, make, _ in FIGURES:
         if name not in keep:
             keep[name] = make(ev)
-    job = RenderJob(keep, tuple(f for f in ("png", "svg") if f in formats), dpi)
+    job = RenderJob(keep, tuple(f for f in ("png", "svg") if f in formats), dpi, also)
     return {}, job
 
 
-def _workers(tasks: int) -> int:
-    """Processes to rasterise in: every core but the one the caller keeps for the PDF."""
+def _cores() -> int:
     import os
-    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
-    return max(0, min(tasks, cores - 1, 8))
+    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+
+
+def _workers(tasks: int) -> int:
+    """Processes to save the figures in: every core but one (the PDF's, or the caller's
+    for the exports)."""
+    return max(0, min(tasks, _cores() - 1, 8))
 
 
 class RenderJob:
-    """Save figures as PNG and SVG in forked child processes while the parent goes on
-    (the PDF): the rasterising is the slowest part of a report, and each further core
-    takes a share of it.  The tasks (figure, format) are dealt to the workers by their
-    expected cost, largest first; each child sends its files back through a pipe.
-    Where fork is not available, on one core, or when a child fails, the files are made
-    in this process instead: the bytes are the same either way.  Call :meth:`result`
-    once."""
+    """Save figures as PNG and SVG, and make the files of ``also`` (the PDF report, laid
+    out from the same figures), in forked child processes while the parent goes on (the
+    exports): the PDF is the longest single task, so it gets a process of its own, started
+    first, and the figure files are dealt to the other workers by their expected cost,
+    largest first; each child sends its files back through a pipe.  Where fork is not
+    available, on one core, or when a child fails, the files are made in this process
+    instead: the bytes are the same either way.  Call :meth:`result` once."""
 
-    def __init__(self, figs: dict, formats: tuple[str, ...] = ("png", "svg"), dpi: int = PNG_DPI):
+    def __init__(self, figs: dict, formats: tuple[str, ...] = ("png", "svg"), dpi: int = PNG_DPI,
+                 also: dict[str, Callable[[], bytes]] | None = None):
         import os
         self.figs = dict(figs)
         self.dpi = dpi
+        self.also = dict(also or {})
         self.tasks = [(n, f) for n in self.figs for f in formats]
-        self.children: list[tuple[int, int, list[tuple[str, str]]]] = []
+        self.children: list[tuple[int, int, list[str]]] = []
         workers = _workers(len(self.tasks)) if hasattr(os, "fork") else 0
-        if workers == 0:
+        if workers == 0 and (not self.also or _workers(len(self.also)) == 0 or not hasattr(os, "fork")):
             return
         # A PNG costs about five SVGs at 150 dpi and more above; A3 about twice A4.
         cost = lambda t: (5.0 * (dpi / 150.0) ** 2 if t[1] == "png" else 1.0) * (2.0 if SHEET_OF.get(t[0]) == "A3" else 1.0)
-        shares: list[list[tuple[str, str]]] = [[] for _ in range(workers)]
+        shares: list[list[str]] = [[name] for name in self.also] + [[] for _ in range(workers)]
         loads = [0.0] * workers
         for task in sorted(self.tasks, key=cost, reverse=True):
             k = loads.index(min(loads))
-            shares[k].append(task)
+            shares[len(self.also) + k].append(f"{task[0]}.{task[1]}")
             loads[k] += cost(task)
         for share in shares:
+            if not share:
+                continue
             try:
                 r, w = os.pipe()
                 pid = os.fork()
@@ -1284,9 +1308,19 @@ class RenderJob:
             os.close(w)
             self.children.append((pid, r, share))
 
-    def _render(self, tasks: list[tuple[str, str]]) -> dict[str, bytes]:
-        with _styled():
-            return {f"{n}.{f}": _save(self.figs[n], f, self.dpi) for n, f in tasks}
+    def _names(self) -> list[str]:
+        return list(self.also) + [f"{n}.{f}" for n, f in self.tasks]
+
+    def _render(self, names: list[str]) -> dict[str, bytes]:
+        out = {}
+        for name in names:
+            if name in self.also:
+                out[name] = self.also[name]()
+            else:
+                stem, fmt = name.rsplit(".", 1)
+                with _styled():
+                    out[name] = _save(self.figs[stem], fmt, self.dpi)
+        return out
 
     def result(self) -> dict[str, bytes]:
         import os
@@ -1307,9 +1341,9 @@ class RenderJob:
                 except Exception:  # a broken stream: make them here instead
                     pass
         self.children = []
-        missing = [t for t in self.tasks if f"{t[0]}.{t[1]}" not in out]
-        out.update(self._render(missing))
-        return {f"{n}.{f}": out[f"{n}.{f}"] for n, f in self.tasks}
+        names = self._names()
+        out.update(self._render([n for n in names if n not in out]))
+        return {n: out[n] for n in names}
 
 
 #: The earlier name of :class:`RenderJob` (PNG files only).

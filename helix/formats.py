@@ -48,7 +48,8 @@ def _export(name: str) -> Format:
 #: Every format ``--formats`` accepts, in the order help lists them.
 FORMATS: dict[str, Format] = {f.name: f for f in (
     Format("pdf", "report.pdf, the numbered design report with every figure as a page"),
-    Format("md", "report.md, the same report in Markdown (its figures link to the PNG and SVG files)"),
+    Format("md", "report.md, the same report in Markdown (its figures show the PNG, and link the SVG, "
+                 "of those written)"),
     Format("png", "a PNG of every figure (plan, sections, cross-section, clearances, gradient; "
                   "with 'design' also pareto and options), at --dpi"),
     Format("svg", "an SVG of every figure"),
@@ -57,17 +58,21 @@ FORMATS: dict[str, Format] = {f.name: f for f in (
     _export("dxf"), _export("ifc"), _export("mesh"), _export("html"),
 )}
 
-#: What ``-o`` writes when ``--formats`` is not given: everything a design report is
-#: handed over with (the PDF to read and print, Markdown and PNG to read on screen, SVG
-#: to edit, the setting-out CSV, JSON for other tools, the DXF for CAD, the building model
-#: and mesh for BIM, the offline 3-D viewer).  The DXF, IFC and mesh only where their
-#: extras are installed, so the core install works without them.
-DEFAULT = ("pdf", "md", "png", "svg", "csv", "json", "dxf", "ifc", "mesh", "html")
+#: What ``-o`` writes when ``--formats`` is not given: what a design report is read,
+#: checked and set out from (the PDF to read and print, with every figure as a vector
+#: page; the Markdown and a PNG of each figure to read on screen; the setting-out CSV;
+#: JSON for other tools; the DXF plan for CAD, where its extra is installed).  The rest
+#: is on request: ``svg`` (each figure again as vectors, which the PDF's pages already
+#: are), ``ifc``, ``mesh`` and ``html`` (the building model, the mesh and the 3-D viewer
+#: come later in a project than the report, and bring the largest files and the slowest
+#: libraries: trimesh with scipy takes 0.5 s to import, ifcopenshell 0.15 s).
+DEFAULT = ("pdf", "md", "png", "csv", "json", "dxf")
 
 #: PNG resolution by default: 150 dpi puts an A3 sheet at 2480 x 1754 pixels, sharp on
-#: screen and in the Markdown report, in half the time of 300 dpi (the rasterising is the
-#: slowest part of a report).  The sheets to print are the PDF's and SVG's vectors; ask
-#: for ``--dpi 300`` for a print-quality raster.
+#: screen and in the Markdown report.  300 dpi takes twice the time (3.0 s against 1.4 s
+#: of CPU for the seven sheets of a design: benchmarks/report_stages.py -- --dpi 300), longer than
+#: the PDF that runs beside it, so the report would wait for its rasters; the sheets to
+#: print are the PDF's vectors.  Ask for ``--dpi 300`` for a print-quality raster.
 DEFAULT_DPI = 150
 MIN_DPI, MAX_DPI = 50, 600  # 600 dpi keeps an A3 raster under 300 MB of memory
 

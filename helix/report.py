@@ -18,11 +18,10 @@ from __future__ import annotations
 import io
 from dataclasses import dataclass, field
 from functools import lru_cache
-from typing import Any, Iterator, Sequence
+from typing import Any, Callable, Iterator, Sequence
 
 from matplotlib.artist import Artist
 from matplotlib.backends.backend_agg import FigureCanvasAgg
-from matplotlib.backends.backend_pdf import PdfPages
 from matplotlib.figure import Figure
 from matplotlib.font_manager import FontProperties
 from matplotlib.patches import FancyBboxPatch, Rectangle
@@ -30,13 +29,13 @@ import matplotlib as mpl
 
 from .checks import in_words
 from .evaluate import Evaluation
-from .figures import A4_LANDSCAPE, FIGURES, PALETTE, STYLE
+from .figures import A4_LANDSCAPE, FIGURES, FONT, PALETTE, STYLE
 from .results import (CAUTION, comparison_blocks, constraint_words, drive_time, format_check, format_limit,
                       format_shortfall, lane_kerbs_text, searched_text, turns_text)
 from .setting_out import stations
 from .units import format_angle, format_duration, format_gradient, format_length, format_level
 
-__all__ = ["report_files", "check_rows", "report_pages", "split_rows", "SECTIONS", "HEADER_MM", "FOOTER_MM",
+__all__ = ["report_files", "report_makers", "check_rows", "report_pages", "split_rows", "SECTIONS", "HEADER_MM", "FOOTER_MM",
            "MIN_TEXT_MM", "FIGURE_NOTES"]
 
 SECTIONS = ("Summary", "Inputs", "Comparison of layouts", "Checks", "Figures", "Setting-out excerpt")
@@ -59,7 +58,7 @@ _CELL = 7.5  # points: tables (2.65 mm)
 _FURNITURE = 7.5  # points: header and footer
 _LINESPACING = 1.25
 _PAD_MM = 0.9  # above and below a table row's text
-_FAMILY = str(STYLE["font.family"])
+_FAMILY = FONT
 _KEEP = 3  # a table split across pages leaves at least this many rows on each side
 
 #: What each figure shows and what to read from it, by figure name (a figure whose name
@@ -697,6 +696,9 @@ PDF_STYLE: Any = {**STYLE, "pdf.fonttype": 42, "ps.fonttype": 42}
 
 
 def _pdf(ev: Evaluation, doc: list[Block], figures: dict, title: str) -> bytes:
+    # Imported here: matplotlib's PDF backend brings fontTools (0.4 s), and a run that
+    # writes the PDF does so in a process of its own (figures.RenderJob).
+    from matplotlib.backends.backend_pdf import PdfPages
     buf = io.BytesIO()
     with mpl.rc_context(PDF_STYLE):
         with PdfPages(buf, metadata={"Title": title, "Creator": "helix", "Producer": "helix",
@@ -717,7 +719,9 @@ def _md_table(t: Table) -> str:
     return "\n".join(out)
 
 
-def _markdown(ev: Evaluation, doc: list[Block]) -> str:
+def _markdown(ev: Evaluation, doc: list[Block], formats: tuple[str, ...] = ("png", "svg")) -> str:
+    """The report in Markdown; each figure shows the PNG and links the SVG of those in
+    ``formats`` that are written beside it (else it names the PDF's page)."""
     out = [f"*{_header(ev.project)}. {CAUTION_SHORT}*"]
     for kind, content in doc:
         if kind == "h1":
@@ -734,7 +738,11 @@ def _markdown(ev: Evaluation, doc: list[Block]) -> str:
             out.append(_md_table(content))
         elif kind == "figure":
             f: FigureRef = content
-            out.append(f"![Figure {f.number} \u2014 {f.title}]({f.name}.png)\n\n*{f.caption}* ([SVG]({f.name}.svg))")
+            image = next((fmt for fmt in ("png", "svg") if fmt in formats), None)
+            head = (f"![Figure {f.number} \u2014 {f.title}]({f.name}.{image})" if image else
+                    f"**Figure {f.number} \u2014 {f.title}**" + (" (a page of report.pdf)" if "pdf" in formats else ""))
+            link = f" ([SVG]({f.name}.svg))" if image == "png" and "svg" in formats else ""
+            out.append(f"{head}\n\n*{f.caption}*{link}")
     return "\n\n".join(out) + "\n"
 
 
@@ -771,25 +779,40 @@ def report_pages(ev: Evaluation, *, option=None, result=None, comparisons: list[
         _close(made)
 
 
+def report_makers(ev: Evaluation, *, option=None, result=None, comparisons: list[Evaluation] | None = None,
+                  spacing: float = 5.0, figures: dict | None = None, formats: tuple[str, ...] = ("pdf", "md")
+                  ) -> dict[str, Callable[[], bytes]]:
+    """A function for each of ``report.pdf`` and ``report.md`` (those named in
+    ``formats``) that makes its bytes, for :func:`report_files` to call here or the
+    command line in a process of its own (:class:`helix.figures.RenderJob`).  The
+    figures are taken from ``figures`` when the function is called, so it may be filled
+    after this returns."""
+    doc = _document(ev, option, result, comparisons or [], spacing)
+    makers: dict[str, Callable[[], bytes]] = {}
+    if "pdf" in formats:
+        def pdf() -> bytes:
+            given, made = _figures(ev, result, figures)
+            try:
+                return _pdf(ev, doc, {**given, **made}, f"{ev.project.name}: helix design report")
+            finally:
+                _close(made)
+        makers["report.pdf"] = pdf
+    if "md" in formats:
+        makers["report.md"] = lambda: _markdown(ev, doc, formats).encode("utf-8")
+    return makers
+
+
 def report_files(ev: Evaluation, *, option=None, result=None, comparisons: list[Evaluation] | None = None,
                  spacing: float = 5.0, figures: dict | None = None,
-                 formats: tuple[str, ...] = ("pdf", "md")) -> dict[str, bytes]:
-    """``report.pdf`` and ``report.md`` (those named in ``formats``) for design ``ev``
-    (the chosen ``option`` of a search ``result``, if any), its checks under further
-    rule sets in ``comparisons``.
+                 formats: tuple[str, ...] = ("pdf", "md", "png", "svg")) -> dict[str, bytes]:
+    """``report.pdf`` and ``report.md`` (those named in ``formats``; the Markdown shows
+    the PNG and links the SVG of each figure where ``formats`` names them) for design
+    ``ev`` (the chosen ``option`` of a search ``result``, if any), its checks under
+    further rule sets in ``comparisons``.
 
     ``figures`` maps figure names to open matplotlib figures already drawn (see
     :func:`helix.figures.render_all`); missing ones are drawn here (for the PDF only)
     and closed."""
-    doc = _document(ev, option, result, comparisons or [], spacing)
-    out: dict[str, bytes] = {}
-    if "pdf" in formats:
-        given, made = _figures(ev, result, figures)
-        try:
-            title = f"{ev.project.name}: helix design report"
-            out["report.pdf"] = _pdf(ev, doc, {**given, **made}, title)
-        finally:
-            _close(made)
-    if "md" in formats:
-        out["report.md"] = _markdown(ev, doc).encode("utf-8")
-    return out
+    makers = report_makers(ev, option=option, result=result, comparisons=comparisons, spacing=spacing,
+                           figures=figures, formats=formats)
+    return {name: make() for name, make in makers.items()}

@@ -112,7 +112,8 @@ def test_metric_demo_numbers(capsys):
 
 def test_output_directory_gets_figures_and_result(tmp_path, capsys):
     out_dir = tmp_path / "out"
-    status, out, _ = run(capsys, "check", str(CONFIGS / "demo-metric.yaml"), "-o", str(out_dir))
+    status, out, _ = run(capsys, "check", str(CONFIGS / "demo-metric.yaml"), "-o", str(out_dir),
+                         "--formats", "png,svg,json")
     assert status == 0
     names = {p.name for p in out_dir.iterdir()}
     assert set(FIGURES + ["result.json"]) <= names

@@ -79,17 +79,18 @@ def test_without_the_extras_one_line_names_them(monkeypatch):
 def test_the_command_line_names_the_missing_extras_and_passes(tmp_path, monkeypatch, capsys):
     real = importlib.util.find_spec
     monkeypatch.setattr(importlib.util, "find_spec",
-                        lambda name, *a: None if name in ("ifcopenshell", "trimesh") else real(name, *a))
+                        lambda name, *a: None if name in ("ezdxf", "ifcopenshell", "trimesh") else real(name, *a))
     assert main(["check", "configs/demo-metric.yaml", "-o", str(tmp_path)]) == 0
     lines = [line for line in capsys.readouterr().out.splitlines() if "not written" in line]
-    assert len(lines) == 1 and "[bim,mesh]" in lines[0]
-    assert (tmp_path / "model.html").is_file() and not (tmp_path / "model.ifc").exists()
+    # The default names the extra of its own export only: the models are on request.
+    assert len(lines) == 1 and "plan.dxf" in lines[0] and "[cad]" in lines[0] and "model.ifc" not in lines[0]
+    assert (tmp_path / "report.pdf").is_file() and not (tmp_path / "plan.dxf").exists()
 
 
 @pytest.mark.skipif(importlib.util.find_spec("ifcopenshell") is None or importlib.util.find_spec("trimesh") is None,
                     reason="needs the bim and mesh extras")
 def test_design_writes_the_models(tmp_path, capsys):
-    assert main(["design", "configs/demo-search.yaml", "-o", str(tmp_path)]) == 0
+    assert main(["design", "configs/demo-search.yaml", "-o", str(tmp_path), "--formats", "dxf,ifc,mesh,html"]) == 0
     for name in ("model.ifc", "model.glb", "model.obj", "model.html", "plan.dxf"):
         assert (tmp_path / name).stat().st_size > 1000
     assert "not written" not in capsys.readouterr().out

@@ -1,5 +1,6 @@
 """``-o`` with ``--formats`` and ``--dpi``: parsing, refusals, the files each format
 writes, PNG pixel size, and bytes that do not depend on how the figures were rendered."""
+import re
 import struct
 from pathlib import Path
 
@@ -90,6 +91,20 @@ def test_each_format_writes_exactly_its_files(name, metric):
     assert set(files) == CHECK_FILES[name]
 
 
+def test_the_default_writes_the_report_formats_and_its_markdown_links_only_files_written(tmp_path, capsys):
+    out = tmp_path / "out"
+    assert main(["check", str(CONFIGS / "demo-metric.yaml"), "-o", str(out)]) == 0
+    expected = set().union(*(CHECK_FILES[n] for n in formats.DEFAULT if FORMATS[n].available()))
+    assert _written(out) == expected
+    assert not {"svg", "ifc", "mesh", "html"} & set(formats.DEFAULT)  # on request only
+    md = (out / "report.md").read_text()
+    linked = set(re.findall(r"\]\(([\w.]+)\)", md))
+    assert linked and linked <= _written(out), linked - _written(out)
+    # Asked for, the SVG is linked beside each PNG.
+    assert main(["check", str(CONFIGS / "demo-metric.yaml"), "-o", str(out), "--formats", "md,png,svg"]) == 0
+    assert "(plan.png)" in (out / "report.md").read_text() and "(plan.svg)" in (out / "report.md").read_text()
+
+
 def test_design_formats_write_the_search_files_too(tmp_path, capsys):
     out = tmp_path / "out"
     status = main(["design", str(CONFIGS / "demo-search.yaml"), "-o", str(out), "--formats", "png,json"])
@@ -135,3 +150,48 @@ def test_outputs_are_byte_identical_between_runs_and_however_rendered(monkeypatc
     monkeypatch.setattr(figures, "_workers", lambda tasks: 0)
     serial = cli._check_outputs(ev, project, None)
     assert all(serial[k] == first[k] for k in first)
+
+
+def test_the_pdf_gets_a_worker_of_its_own_and_a_failed_worker_is_made_again_here(metric):
+    import os
+    project, ev = metric
+    if not hasattr(os, "fork") or figures._cores() < 2:
+        pytest.skip("needs fork and two cores")
+    from helix.report import report_makers
+    figs: dict = {}
+    parent = os.getpid()
+    pdf = report_makers(ev, figures=figs, formats=("pdf",))["report.pdf"]
+
+    def pdf_failing_in_a_worker() -> bytes:
+        if os.getpid() != parent:
+            os._exit(1)  # a worker that dies: its file is made in the parent instead
+        return pdf()
+
+    try:
+        _, job = figures.start_render(ev, figs, ("png",), 50, also={"report.pdf": pdf_failing_in_a_worker})
+        assert [share for _, _, share in job.children][0] == ["report.pdf"]  # first, alone
+        assert all("report.pdf" not in share for _, _, share in job.children[1:])
+        files = job.result()
+    finally:
+        for fig in figs.values():
+            figures.close_sheet(fig)
+    assert set(files) == {"report.pdf"} | {f"{n}.png" for n in DESIGN_FIGURES}
+    # The same bytes as the report made in one process, start to end.
+    assert files["report.pdf"] == cli._check_outputs(ev, project, None, formats=("pdf",))["report.pdf"]
+
+
+def test_svg_keeps_its_text_as_text_with_a_generic_family_last(metric):
+    import xml.etree.ElementTree as ET
+    project, ev = metric
+    svg = cli._check_outputs(ev, project, None, formats=("svg",))["plan.svg"]
+    root = ET.fromstring(svg)
+    ns = "{http://www.w3.org/2000/svg}"
+    texts = [t for t in root.iter(f"{ns}text")]
+    # Source: W3C, SVG 1.1 (Second Edition), 2011, 10.4 (the 'text' element) and 10.15
+    # ('xml:space': "preserve" keeps runs of spaces); W3C, CSS 2.1, 15.3 (font-family: a
+    # list of families, a generic family last as the fallback).
+    assert root.get("{http://www.w3.org/XML/1998/namespace}space") == "preserve"
+    assert project.name in {"".join(t.itertext()) for t in texts}
+    families = {part.split(":", 1)[1].strip() for t in texts for part in t.get("style", "").split(";")
+                if part.strip().startswith("font-family")}
+    assert families and all(f.startswith("'DejaVu Sans'") and f.endswith("sans-serif") for f in families)

@@ -75,7 +75,8 @@ def test_outputs_are_byte_identical_between_runs(tmp_path):
     a, b = tmp_path / "a", tmp_path / "b"
     for out, seed in ((a, "1"), (b, "2")):
         env = dict(os.environ, PYTHONHASHSEED=seed)
-        done = subprocess.run([sys.executable, "-m", "helix", "check", METRIC, "-o", str(out)], env=env,
+        done = subprocess.run([sys.executable, "-m", "helix", "check", METRIC, "-o", str(out),
+                               "--formats", "pdf,md,png,svg,csv,json,dxf"], env=env,
                               capture_output=True, text=True)
         assert done.returncode == 0, done.stderr
     for name in ("result.json", "setting_out.csv", "plan.dxf", "report.pdf", "report.md", "plan.svg",
@@ -93,7 +94,7 @@ def test_a_failed_run_leaves_the_previous_outputs(tmp_path, monkeypatch, capsys,
     def boom(*args, **kwargs):
         raise RuntimeError("disk on fire")
 
-    monkeypatch.setattr(report, "report_files", boom)
+    monkeypatch.setattr(report, "report_makers", boom)
     assert main(["check", IMPERIAL, "-o", str(out)]) == 3  # an internal error, not a verdict
     assert "internal error: RuntimeError" in capsys.readouterr().err
     after = {p.name: p.read_bytes() for p in out.iterdir()}

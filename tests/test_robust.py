@@ -445,11 +445,11 @@ def _snapshot(folder: Path) -> dict[str, bytes]:
 
 def test_a_folder_where_an_output_should_go_leaves_everything_as_it_was(tmp_path, capsys, written):
     out = _copy(written, tmp_path)
-    (out / "plan.svg").unlink()
-    (out / "plan.svg").mkdir()
+    (out / "plan.png").unlink()
+    (out / "plan.png").mkdir()
     before = _snapshot(out)
     status, _, err = run(capsys, "check", METRIC, "-o", out)
-    assert status == 2 and "plan.svg is a folder" in one_line(err)
+    assert status == 2 and "plan.png is a folder" in one_line(err)
     assert _snapshot(out) == before
 
 

@@ -195,7 +195,7 @@ def test_design_command_json_and_exit_status(tmp_path, capsys):
             assert key in o
     out = tmp_path / "o"
     assert main(["design", DEMO, "-o", str(out)]) == 0
-    for name in ("pareto.png", "pareto.svg", "design.json", "plan.png", "result.json"):
+    for name in ("pareto.png", "options.png", "design.json", "plan.png", "result.json", "report.pdf"):
         assert (out / name).is_file()
     assert main(["check", DEMO]) == 2  # ranges are for 'design'
     assert "helix design" in capsys.readouterr().err
