@@ -32,6 +32,7 @@ change verified by searching and checking the changed project.
 from __future__ import annotations
 
 import math
+from contextvars import ContextVar
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -91,25 +92,63 @@ class Screen:
         return ok
 
 
-def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
-    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement).
-
-    Auto widths are exact (no rounding): the inner lane's need depends on where its
-    inner kerb lies, which depends on the widths, so they are the fixed point of that
-    map, reached by iteration (a contraction: the need changes by less than the kerb
-    moves, and the kerb moves by half the width change)."""
+def _width_terms(project: Project, family: Family) -> tuple[float, float, float, float]:
+    """The rule minimum of one lane's width, the kerb clearances inside and outside the
+    swept band, and the central kerb between two lanes."""
     rules = project.rules
-    lanes = family.lanes
-    if family.lane_widths is not None:
-        return np.broadcast_to(np.asarray(family.lane_widths, float), (len(radius), lanes)).copy()
-    if lanes == 2 and rules.lane_width_two_way is not None:
+    if family.lanes == 2 and rules.lane_width_two_way is not None:
         rule_min = 0.5 * rules.lane_width_two_way.value
     elif rules.lane_width_one_way is not None:
         rule_min = rules.lane_width_one_way.value
     else:
         rule_min = 0.0
     c_in, c_out = rules.kerb_clearances()
-    central = _central_kerb(project, family)
+    return rule_min, c_in, c_out, _central_kerb(project, family)
+
+
+def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
+    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement).
+
+    Auto widths are exact (no rounding): the fixed point of :func:`_lane_widths_reference`.
+    One lane in closed form: with the inner kerb at ``e = R - w/2`` the width is the
+    largest of three maps of ``w``, each nondecreasing with a slope below 1 (the rule
+    minimum; the vehicle's rear axle on its tightest circle, ``K - e``; hugging the inner
+    kerb, ``hypot(e + c_in + W, L) + c_out - e``), so their one common fixed point is the
+    largest of their own: ``m``, ``2 (K - R)`` and ``2 (R - e_u)`` with ``e_u`` the root
+    of ``2R - c_out - e = hypot(e + c_in + W, L)``, which squared is linear in ``e``.
+    Each row's result is checked against the map once (residual 1e-12 m); a row that
+    fails, and every two-lane family, takes the reference iteration."""
+    if family.lane_widths is not None or family.lanes != 1 or not len(radius):
+        return _lane_widths_reference(project, family, radius)
+    from .turning import min_rear_axle_radius
+    v = project.vehicle
+    rule_min, c_in, c_out, _ = _width_terms(project, family)
+    radius = np.asarray(radius, float)
+    reach = v.wheelbase + v.front_overhang
+    p, q = 2.0 * radius - c_out, c_in + v.width
+    with np.errstate(divide="ignore", invalid="ignore"):
+        e_u = (p * p - q * q - reach * reach) / (2.0 * (p + q))
+    k = math.hypot(min_rear_axle_radius(v) + 0.5 * v.width, reach) + c_out
+    w = np.maximum(np.maximum(rule_min, 2.0 * (radius - e_u)), 2.0 * (k - radius))
+    again = np.maximum(rule_min, _swept_need(v, radius - 0.5 * w, c_in, c_out))
+    bad = ~(np.abs(again - w) <= 1e-12 * np.maximum(1.0, w)) | ~(p + q > 0)
+    if np.any(bad):
+        w[bad] = _lane_widths_reference(project, family, radius[bad])[:, 0]
+    return w[:, None]
+
+
+def _lane_widths_reference(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
+    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement).
+
+    Auto widths are exact (no rounding): the inner lane's need depends on where its
+    inner kerb lies, which depends on the widths, so they are the fixed point of that
+    map, reached by iteration (a contraction: the need changes by less than the kerb
+    moves, and the kerb moves by half the width change).  The reference the closed form
+    of :func:`_lane_widths` is tested against, and the two-lane form."""
+    lanes = family.lanes
+    if family.lane_widths is not None:
+        return np.broadcast_to(np.asarray(family.lane_widths, float), (len(radius), lanes)).copy()
+    rule_min, c_in, c_out, central = _width_terms(project, family)
     v = project.vehicle
     w = np.full((len(radius), lanes), max(rule_min, v.width + c_in + c_out))
     for _ in range(200):
@@ -233,7 +272,12 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
     friction = np.full(len(radius), -np.inf)
     c_in, c_out = rules.kerb_clearances()
     speed_kmh = 3.6 * (rules.design_speed.value if rules.design_speed else 15 / 3.6)
-    for rc in thread_rc:
+    for i, rc in enumerate(thread_rc):
+        if i and rc is thread_rc[0]:
+            # The double helix's second thread: the same radius, so the same alignment
+            # and margins (every sum below is a minimum or maximum: nothing changes).
+            profiles.append(profiles[0])
+            continue
         ri, ro = rc - 0.5 * carriageway, rc + 0.5 * carriageway
         inner_min = np.minimum(inner_min, ri)
         land = landing_len / rc
@@ -563,6 +607,67 @@ def _pieces(a: float, b: float, cuts: list[tuple[float, str]], a_by: str = "",
 
 
 @dataclass
+class _Regions:
+    """Each storey's gradient regions and headroom regions (with their bounded cells and
+    the headroom evaluations each took) of one layout space.  They depend only on what
+    :func:`_regions_key` names, so spaces that agree on it share one (see
+    :class:`_Shared`)."""
+
+    gradient: dict = field(default_factory=dict)
+    headroom: dict = field(default_factory=dict)
+    cells: dict = field(default_factory=dict)
+    evaluations: dict = field(default_factory=dict)  # headroom key -> evaluations it took
+
+
+@dataclass
+class _Shared:
+    """What one :func:`design` run computes once and reuses: full checks by project
+    (the search space aside: :func:`helix.evaluate` never reads it), layout spaces by
+    (project, layout, relaxed constraints), and regions by :func:`_regions_key`.  The
+    explanations search the same layouts again with one rule relaxed, and the verified
+    changes and wider turns meet the same designs again; each is a pure function of its
+    key, so the results are those of computing afresh."""
+
+    evaluations: dict = field(default_factory=dict)
+    spaces: dict = field(default_factory=dict)
+    regions: dict = field(default_factory=dict)
+
+
+#: The memo of the current :func:`design` run (none outside one: direct calls of
+#: :func:`search_layout` compute afresh).
+_SHARED: ContextVar[_Shared | None] = ContextVar("helix_search_shared", default=None)
+#: Off: :func:`design` shares nothing (the reference the tests compare the memo with).
+SHARING = True
+
+
+def _regions_key(project: Project, layout: str, widths, base: IntervalSet, kinks: list, relax) -> tuple:
+    """What a layout space's gradient and headroom regions depend on: the project but
+    its search space (of which only the target gradient enters a margin), the layout and
+    lane widths, the radii they are found on (the base, with what bounds them, and the
+    kinks that cut it) and the relaxed rules other than the radius-only ones (those act
+    through the base alone)."""
+    return (replace(project, search=None), _space(project).target_gradient, layout, widths, base,
+            tuple(kinks), frozenset(relax) - frozenset(RADIUS_KEYS))
+
+
+def _evaluate(project: Project, vehicle: bool = True) -> Evaluation:
+    """:func:`helix.evaluate`, once per design in a :func:`design` run; a full check also
+    answers a request without the vehicle (that leaves out the vehicle's two checks
+    only, every other check is the same)."""
+    shared = _SHARED.get()
+    if shared is None:
+        return evaluate(project, vehicle=vehicle)
+    key = replace(project, search=None)
+    ev = shared.evaluations.get((key, True))
+    if ev is None and not vehicle:
+        ev = shared.evaluations.get((key, False))
+    if ev is None:
+        ev = evaluate(project, vehicle=vehicle)
+        shared.evaluations[(key, vehicle)] = ev
+    return ev if ev.project == project else replace(ev, project=project)
+
+
+@dataclass
 class LayoutSpace:
     """One layout's search: its fixed parts and the memo of each storey's regions."""
 
@@ -574,11 +679,20 @@ class LayoutSpace:
     base: IntervalSet  # buildable radii of the range that meet every radius-only rule
     notes: list[str]
     kinks: list = field(default_factory=list)  # radii where auto lane widths change regime
-    gradient_memo: dict = field(default_factory=dict)
-    headroom_memo: dict = field(default_factory=dict)
-    headroom_cells: dict = field(default_factory=dict)
+    regions: "_Regions" = field(default_factory=lambda: _Regions())
     value_memo: dict = field(default_factory=dict)
-    evaluations: int = 0
+
+    @property
+    def gradient_memo(self) -> dict:
+        return self.regions.gradient
+
+    @property
+    def headroom_memo(self) -> dict:
+        return self.regions.headroom
+
+    @property
+    def headroom_cells(self) -> dict:
+        return self.regions.cells
 
     def family(self, turns) -> Family:
         return Family(self.layout, tuple(float(t) for t in turns), self.widths)
@@ -658,8 +772,10 @@ class LayoutSpace:
         fam = Family(self.layout, tuple(turns), self.widths)
         span = (s == 0, j == p.storeys - 1)
 
+        used = [0]
+
         def fn(r):
-            self.evaluations += len(r)
+            used[0] += len(r)
             return screen(sub, fam, r, lower_span=span).margins["clear_height"] + MARGIN_TOL
 
         def bound(lo, hi):
@@ -677,6 +793,7 @@ class LayoutSpace:
         out = IntervalSet.union_of(parts)
         self.headroom_memo[key] = out
         self.headroom_cells[key] = cells
+        self.regions.evaluations[key] = used[0]
         return out
 
 
@@ -763,6 +880,19 @@ class LayoutSearch:
 
 
 def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpace:
+    shared = _SHARED.get()
+    if shared is None:
+        return _new_layout_space(project, layout, relax)
+    key = (project, layout, frozenset(relax))
+    if key not in shared.spaces:
+        space = _new_layout_space(project, layout, relax)
+        space.regions = shared.regions.setdefault(
+            _regions_key(project, layout, space.widths, space.base, space.kinks, relax), space.regions)
+        shared.spaces[key] = space
+    return shared.spaces[key]
+
+
+def _new_layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpace:
     sp = _space(project)
     widths = _widths_for(project, layout)
     choices = storey_choices(project, layout)
@@ -818,6 +948,8 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
     """
     objective = objective or _space(project).objective
     space = _layout_space(project, layout, relax)
+    notes = list(space.notes)  # this search's own (a shared space keeps its own)
+    windows: set = set()  # the headroom regions this search asked for
     n = project.storeys
     choices = space.choices
     combos = 1
@@ -827,7 +959,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
     searched = {"turns_choices": [list(c) for c in choices], "combinations": combos}
     if not space.base:
         searched.update(nodes=0, headroom_windows=0)
-        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(space.notes))
+        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(notes))
     min_turns_after = [sum(min(c) for c in choices[s:]) for s in range(n + 1)]
 
     def value_at(r: float, turns: tuple) -> float:
@@ -880,7 +1012,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
                     best = ((value,) + key[1:], turns, region, r)
                 completed += 1
                 if completed >= max_complete:
-                    space.notes.append(f"largest headroom taken over the first {max_complete} complete choices "
+                    notes.append(f"largest headroom taken over the first {max_complete} complete choices "
                                        "of turns, in order of their bound; it may not be the largest")
                     break
                 continue
@@ -888,7 +1020,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
             break
         nodes += 1
         if nodes > max_nodes:
-            space.notes.append(f"search stopped after {max_nodes} partial designs; the result may not be the optimum")
+            notes.append(f"search stopped after {max_nodes} partial designs; the result may not be the optimum")
             break
         cum = sum(turns)
         for t in choices[s]:
@@ -903,6 +1035,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
             while reg and low <= s and (cums[s + 1] - cums[low + 1] >= 1.0 - 1e-9 or s == n - 1):
                 window = space.headroom_region(low, s, new_turns[low:s + 1])
                 if window is not None:
+                    windows.add(space.headroom_key(low, s, new_turns[low:s + 1]))
                     reg = reg & window
                     if objective == "headroom" and reg:
                         ub = min(ub, space.headroom_upper(low, s, new_turns[low:s + 1], reg))
@@ -911,16 +1044,16 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
                 continue
             counter += 1
             heapq.heappush(heap, (bound(reg, new_turns, ub), counter, new_turns, reg, low, ub))
-    searched.update(nodes=nodes, headroom_windows=len(space.headroom_memo),
-                    headroom_evaluations=space.evaluations)
+    searched.update(nodes=nodes, headroom_windows=len(windows),
+                    headroom_evaluations=sum(space.regions.evaluations[k] for k in windows))
     if best is None:
-        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(space.notes))
+        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(notes))
     key, turns, region, r = best
     fam = space.family(turns)
     binding = region.label_at(r) or next((label for k, label in space.kinks if abs(k - r) <= TOL), "") or (
         "clear_height (largest headroom)" if objective == "headroom" else "")
     value = float(_objective(screen(project, fam, [r]), objective)[0])
-    return LayoutSearch(layout, fam, float(r), region, binding, value, searched, tuple(space.notes))
+    return LayoutSearch(layout, fam, float(r), region, binding, value, searched, tuple(notes))
 
 
 def _best_headroom(space: LayoutSpace, turns: tuple, region: IntervalSet) -> tuple[float, float]:
@@ -1031,7 +1164,7 @@ def pareto_mask(points: np.ndarray) -> np.ndarray:
 def _full_check_margin(project: Project, family: Family, r: float, ids: set[str]) -> float:
     """The smallest margin of the checks ``ids`` at ``r`` (rolling the vehicle only
     when one of them needs it: it is the slow part)."""
-    ev = evaluate(family_project(project, family, r), vehicle=bool(ids & set(VEHICLE_KEYS)))
+    ev = _evaluate(family_project(project, family, r), vehicle=bool(ids & set(VEHICLE_KEYS)))
     margins = [c.margin for c in ev.checks if c.id in ids and c.margin is not None]
     return min(margins) if margins else math.inf
 
@@ -1067,7 +1200,7 @@ def _verified(project: Project, layout: str, objective: str | None = None,
 
 def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tuple[LayoutSearch, Evaluation, bool]:
     assert ls.family is not None and ls.radius is not None  # a feasible search names both
-    ev = evaluate(family_project(project, ls.family, ls.radius))
+    ev = _evaluate(family_project(project, ls.family, ls.radius))
     failing = [c.id for c in ev.checks if not c.ok and c.id not in relax]
     if not failing:
         return ls, ev, True
@@ -1093,7 +1226,7 @@ def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tupl
             r = hi if fb >= 0 else lo
             if (fb >= 0) != low:  # the margin shrinks with the radius there
                 r = a if fa >= 0 else b
-        ev2 = evaluate(family_project(project, fam, r))
+        ev2 = _evaluate(family_project(project, fam, r))
         if ev2.ok:
             value = float(_objective(screen(project, fam, [r]), objective or _space(project).objective)[0])
             return replace(ls, radius=float(r), binding=failing[0], objective_value=value), ev2, True
@@ -1333,6 +1466,14 @@ def design(project: Project) -> DesignResult:
     """
     if project.search is None or project.search.fixed:
         project = replace(project, search=default_space(project))
+    token = _SHARED.set(_Shared() if SHARING else None)
+    try:
+        return _design(project)
+    finally:
+        _SHARED.reset(token)
+
+
+def _design(project: Project) -> DesignResult:
     objective = _space(project).objective
     results = {}
     for layout in _space(project).layouts:
@@ -1373,7 +1514,7 @@ def design(project: Project) -> DesignResult:
                     tuple(e for e in expl if e.get("constraint") != "several")
             fam, r = (least[0], least[1]) if least else (ls.family, ls.radius)
             binding = f"least-failing: meets every rule but {least[2]}" if least else "infeasible"
-            row_ev = evaluate(family_project(project, fam, r)) if fam is not None and r is not None else None
+            row_ev = _evaluate(family_project(project, fam, r)) if fam is not None and r is not None else None
         value = float(_objective(screen(project, fam, [r]), objective)[0]) if fam is not None and r is not None \
             else math.inf
         options.append(Option(layout, fam, row_ev, binding, False, expl, value, ls.searched, ls.notes))
