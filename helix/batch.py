@@ -167,8 +167,22 @@ def _pieces(bp: BatchProfile, theta_mid: np.ndarray) -> tuple[np.ndarray, ...]:
     located once by the piece's midpoint: on a piece between consecutive critical angles
     no alignment changes segment, so every point of the piece shares them."""
     j = bp._locate(theta_mid)
-    rows = np.arange(theta_mid.shape[0])[:, None]
-    return bp.t[rows, j], bp.z0[rows, j], bp.k[rows, j], bp.q[rows, j]
+    c, m = bp.k.shape
+    # Flat indices into each row-major array (one take each, the same elements as
+    # indexing by row and segment).
+    row = np.arange(c)[:, None]
+    at, at_t = j + row * m, j + row * (m + 1)
+    return (np.take(bp.t, at_t), np.take(bp.z0, at), np.take(bp.k, at), np.take(bp.q, at))
+
+
+def _pieces_many(bp: BatchProfile, mids: list[np.ndarray]) -> list[tuple[np.ndarray, ...]]:
+    """:func:`_pieces` of ``bp`` for several sets of midpoints (C, W) at once (one
+    search and one gather for a thread and its own turns)."""
+    if len(mids) == 1:
+        return [_pieces(bp, mids[0])]
+    w = mids[0].shape[1]
+    coef = _pieces(bp, np.concatenate(mids, axis=1))
+    return [tuple(a[:, i * w:(i + 1) * w] for a in coef) for i in range(len(mids))]
 
 
 def _level_on(coef: tuple[np.ndarray, ...], bp: BatchProfile, theta: np.ndarray) -> np.ndarray:
@@ -310,12 +324,16 @@ def _thread_min_headroom(p: BatchProfile, overhead: list[tuple[BatchProfile, flo
     width = right - left
     # On each piece every alignment is one quadratic in x = theta - left: the gap to
     # each surface overhead is d(x) = d0 + d1 x + d2 x^2 / 2, formed once per piece.
-    t0, z0, k, q = _pieces(p, mid)
+    # The thread and the surfaces of its own alignment located in one search.
+    own = [i for i, (u, _) in enumerate(overhead) if u is p]
+    located = _pieces_many(p, [mid] + [mid + overhead[i][1] for i in own])
+    t0, z0, k, q = located[0]
+    coefs = dict(zip(own, located[1:]))
     xl = left - t0
     zp, sp = z0 + k * xl + 0.5 * q * xl * xl, k + q * xl
     gaps = []
-    for u, shift in overhead:
-        tu, zu0, ku, qu = _pieces(u, mid + shift)
+    for i, (u, shift) in enumerate(overhead):
+        tu, zu0, ku, qu = coefs[i] if i in coefs else _pieces(u, mid + shift)
         xu = left + shift - tu
         d0 = zu0 + ku * xu + 0.5 * qu * xu * xu - zp
         d1 = ku + qu * xu - sp

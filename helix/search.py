@@ -130,6 +130,7 @@ def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.nda
         e_u = (p * p - q * q - reach * reach) / (2.0 * (p + q))
     k = math.hypot(min_rear_axle_radius(v) + 0.5 * v.width, reach) + c_out
     w = np.maximum(np.maximum(rule_min, 2.0 * (radius - e_u)), 2.0 * (k - radius))
+    # One more step of the map: its fixed point leaves the width where it is.
     again = np.maximum(rule_min, _swept_need(v, radius - 0.5 * w, c_in, c_out))
     bad = ~(np.abs(again - w) <= 1e-12 * np.maximum(1.0, w)) | ~(p + q > 0)
     if np.any(bad):
@@ -216,10 +217,13 @@ def _batch_length(bp: BatchProfile, r: np.ndarray, a: np.ndarray, b: np.ndarray)
     s1 = bp.k + bp.q * (hi - bp.t[:, :-1])
     rr = r[:, None]
     flat = (hi - lo) * np.hypot(rr, s0)
+    curving = np.abs(bp.q) > 1e-15
+    if not np.any(curving):  # straight grades only (segment transitions): no curved part
+        return np.sum(flat, axis=1)
     f = lambda s: 0.5 * (s * np.hypot(rr, s) + rr * rr * np.arcsinh(s / rr))
     with np.errstate(divide="ignore", invalid="ignore"):
         curved = (f(s1) - f(s0)) / bp.q
-    return np.sum(np.where(np.abs(bp.q) > 1e-15, curved, flat), axis=1)
+    return np.sum(np.where(curving, curved, flat), axis=1)
 
 
 def _reference_lines(g, rc: np.ndarray, ri: np.ndarray, lane_lines: list) -> list[np.ndarray]:
