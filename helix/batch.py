@@ -154,12 +154,18 @@ def _critical_grid(profiles: list[BatchProfile], i: int, start_bearings: list[fl
                    same_annulus: bool, spans) -> tuple[list[tuple[BatchProfile, float]], np.ndarray]:
     """The surfaces overhead of thread ``i`` and its critical angles (C, K), sorted: its
     breakpoints and every overhead one, shifted, clipped to the span measured."""
-    p = profiles[i]
     overhead = _overhead(profiles, i, start_bearings, hand, same_annulus)
+    return overhead, _grid(profiles[i], overhead, None if spans is None else spans[i])
+
+
+def _grid(p: BatchProfile, overhead: list[tuple[BatchProfile, float]],
+          span: tuple[np.ndarray, np.ndarray] | None) -> np.ndarray:
+    """The critical angles (C, K) of thread ``p`` under ``overhead``, sorted: its
+    breakpoints and every overhead one, shifted, clipped to ``span`` (default: all of it)."""
     pts = [p.t] + [u.t - shift for u, shift in overhead]
     grid = np.sort(np.concatenate(pts, axis=1), axis=1)
-    lo, hi = (p.start, p.end) if spans is None else spans[i]
-    return overhead, np.clip(grid, lo[:, None], hi[:, None])
+    lo, hi = (p.start, p.end) if span is None else span
+    return np.clip(grid, lo[:, None], hi[:, None])
 
 
 def _pieces(bp: BatchProfile, theta_mid: np.ndarray) -> tuple[np.ndarray, ...]:
@@ -316,9 +322,7 @@ def _thread_min_headroom(p: BatchProfile, overhead: list[tuple[BatchProfile, flo
                          cover_soffit: float | None, span: tuple[np.ndarray, np.ndarray] | None) -> np.ndarray:
     """Smallest clear headroom (C,) over one thread ``p`` under the surfaces ``overhead``
     (profile, plan-angle shift), measured on ``span`` (default: the whole thread)."""
-    pts = [p.t] + [u.t - shift for u, shift in overhead]
-    lo, hi = (p.start, p.end) if span is None else span
-    grid = np.clip(np.sort(np.concatenate(pts, axis=1), axis=1), lo[:, None], hi[:, None])
+    grid = _grid(p, overhead, span)
     left, right = grid[:, :-1], grid[:, 1:]
     mid = 0.5 * (left + right)
     width = right - left
@@ -372,6 +376,13 @@ def _thread_min_headroom(p: BatchProfile, overhead: list[tuple[BatchProfile, flo
             ok = take & (d2 > 1e-14) & (xs > 0) & (xs < width)
             x_star = np.where(take, np.where(ok, xs, x_mid), x_star)
         vals.append(nearest_gap(x_star))
+        if cover_soffit is not None and np.any(q < 0):
+            # The crest of the thread on a piece (a vertical curve from rising to
+            # falling): the least gap to the soffit above lies there, inside the piece.
+            with np.errstate(invalid="ignore", divide="ignore"):
+                xc = -sp / q
+            crest = (q < 0) & (xc > 0) & (xc < width)
+            vals.append(nearest_gap(np.where(crest, xc, x_mid)))
     val = np.concatenate(vals, axis=1)
     return np.min(np.where(np.isfinite(val), val, np.inf), axis=1)
 

@@ -263,7 +263,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
     e = cross if d.cross_fall_inward else -cross
     margins: dict[str, np.ndarray] = {}
     steep = {"inner": np.zeros(len(radius)), "centre": np.zeros(len(radius)), "outer": np.zeros(len(radius))}
-    profiles = []
+    profiles: list[BatchProfile] = []
     drive = np.zeros(len(radius))
     thread_rc = _thread_radii(project, family, radius, carriageway)
     for g in rules.gradient:
