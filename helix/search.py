@@ -435,33 +435,60 @@ def _batch_margins(project: Project, family: Family, radii: np.ndarray, keys) ->
 
 
 def _regions_of(margins_fn, keys, a: float, b: float, a_by: str = "", b_by: str = "",
-                probes: int = 17) -> IntervalSet:
+                probes: int = 17, memo: dict | None = None) -> IntervalSet:
     """Radii of ``[a, b]`` where every margin in ``keys`` is met, each margin monotone
-    on ``[a, b]`` (checked at the probes): one Brent root per margin that changes sign."""
+    on ``[a, b]`` (checked at the probes): one Brent root per margin that changes sign.
+
+    ``memo`` keeps the probes' margins and each margin's own part of ``[a, b]`` (it
+    depends on that margin alone), for calls on the same piece with other ``keys``;
+    ``margins_fn`` must then give every margin any of those calls asks for."""
     if b < a:
         return IntervalSet()
+    piece = (a, b, a_by, b_by)
     xs = np.linspace(a, b, probes) if b > a else np.array([a])
-    vals = margins_fn(xs)
+    if memo is not None and piece in memo:
+        vals = memo[piece]
+    else:
+        vals = margins_fn(xs)
+        if memo is not None:
+            memo[piece] = vals
     region = IntervalSet.of(a, b, a_by, b_by)
     for key in keys:
         if key not in vals:
             continue
-        ok = vals[key] + MARGIN_TOL >= 0
-        if np.all(ok):
+        if memo is not None and (piece, key) in memo:
+            part = memo[(piece, key)]
+        else:
+            part = _region_of(margins_fn, key, vals[key], xs, piece)
+            if memo is not None:
+                memo[(piece, key)] = part
+        if part is None:  # met on all of it
             continue
-        if not np.any(ok):
+        if not part:
             return IntervalSet()
-        flips = np.flatnonzero(ok[1:] != ok[:-1])
-        if len(flips) > 1:
-            raise RegionError(f"{key}: not monotone on [{a:.6g}, {b:.6g}] m")
-        i = int(flips[0])
-        f = lambda r, key=key: float(margins_fn(np.array([r]))[key][0]) + MARGIN_TOL
-        lo, hi = _boundary(f, float(xs[i]), float(xs[i + 1]))
-        part = IntervalSet.of(a, lo, a_by, key) if ok[0] else IntervalSet.of(hi, b, key, b_by)
         region = region & part
         if not region:
             return region
     return region
+
+
+def _region_of(margins_fn, key: str, vals: np.ndarray, xs: np.ndarray, piece: tuple) -> IntervalSet | None:
+    """The part of the piece ``(a, b, a_by, b_by)`` where the margin ``key`` (``vals`` at
+    the probes ``xs``) is met: ``None`` for all of it, else an interval set (empty when
+    no probe meets it)."""
+    a, b, a_by, b_by = piece
+    ok = vals + MARGIN_TOL >= 0
+    if np.all(ok):
+        return None
+    if not np.any(ok):
+        return IntervalSet()
+    flips = np.flatnonzero(ok[1:] != ok[:-1])
+    if len(flips) > 1:
+        raise RegionError(f"{key}: not monotone on [{a:.6g}, {b:.6g}] m")
+    i = int(flips[0])
+    f = lambda r: float(margins_fn(np.array([r]))[key][0]) + MARGIN_TOL
+    lo, hi = _boundary(f, float(xs[i]), float(xs[i + 1]))
+    return IntervalSet.of(a, lo, a_by, key) if ok[0] else IntervalSet.of(hi, b, key, b_by)
 
 
 def _boundary(f, a: float, b: float) -> tuple[float, float]:
@@ -627,7 +654,9 @@ class _Regions:
 class _Shared:
     """What one :func:`design` run computes once and reuses: full checks by project
     (the search space aside: :func:`helix.evaluate` never reads it), layout spaces by
-    (project, layout, relaxed constraints), and regions by :func:`_regions_key`.  The
+    (project, layout, relaxed constraints), each layout's buildable range, kinks and
+    radius-only margins piece by piece by (project, layout), and regions by
+    :func:`_regions_key`.  The
     explanations search the same layouts again with one rule relaxed, and the verified
     changes and wider turns meet the same designs again; each is a pure function of its
     key, so the results are those of computing afresh."""
@@ -635,6 +664,7 @@ class _Shared:
     evaluations: dict = field(default_factory=dict)
     spaces: dict = field(default_factory=dict)
     regions: dict = field(default_factory=dict)
+    frames: dict = field(default_factory=dict)  # (project, layout) -> range, kinks, radius-only parts
 
 
 #: The memo of the current :func:`design` run (none outside one: direct calls of
@@ -904,7 +934,16 @@ def _new_layout_space(project: Project, layout: str, relax=frozenset()) -> Layou
     notes = []
     from .units import format_length
     u = project.units
-    built = _buildable(project, fam0, sp.radius_min, sp.radius_max)
+    # What every relaxation of this layout shares: the buildable range, the kinks and
+    # each radius-only margin's part of every piece (in a design run's memo).
+    shared = _SHARED.get()
+    frame = None if shared is None else shared.frames.setdefault((project, layout), {})
+    if frame is not None and "built" in frame:
+        built = frame["built"]
+    else:
+        built = _buildable(project, fam0, sp.radius_min, sp.radius_max)
+        if frame is not None:
+            frame["built"] = built
     if built is None:
         return LayoutSpace(project, layout, widths, choices, frozenset(relax), IntervalSet(),
                            [f"no radius of {format_length(sp.radius_min, u)} to {format_length(sp.radius_max, u)} "
@@ -915,12 +954,19 @@ def _new_layout_space(project: Project, layout: str, relax=frozenset()) -> Layou
     sub = _sub(project, 0, 1)
     fam1 = Family(layout, (max(choices[0]),), widths)
     keys = [k for k in RADIUS_KEYS if k not in relax]
-    kinks = _kinks(project, fam1, built[0], built[1])
+    if frame is not None and "kinks" in frame:
+        kinks = frame["kinks"]
+    else:
+        kinks = _kinks(project, fam1, built[0], built[1])
+        if frame is not None:
+            frame["kinks"] = kinks
     parts: list = []
     low_by = "search range (minimum radius)" if built[0] <= sp.radius_min + TOL else "geometry"
-    margins = lambda r: _batch_margins(sub, fam1, r, keys)
+    wanted = keys if frame is None else list(RADIUS_KEYS)
+    margins = lambda r: _batch_margins(sub, fam1, r, wanted)
+    memo = None if frame is None else frame.setdefault("pieces", {})
     for lo, hi, lb, hb in _pieces(built[0], built[1], kinks, low_by, "search range (maximum radius)"):
-        parts.extend(_regions_of(margins, keys, lo, hi, lb, hb).parts)
+        parts.extend(_regions_of(margins, keys, lo, hi, lb, hb, memo=memo).parts)
     return LayoutSpace(project, layout, widths, choices, frozenset(relax), IntervalSet.union_of(parts),
                        notes, kinks)
 
