@@ -239,14 +239,15 @@ def _reference_lines(g, rc: np.ndarray, ri: np.ndarray, lane_lines: list) -> lis
 
 
 def screen(project: Project, family: Family, radius, with_headroom: bool = True,
-           lower_span: tuple[bool, bool] | None = None) -> Screen:
+           lower_span: tuple[bool, bool] | None = None, headroom_only: bool = False) -> Screen:
     """All search margins of ``family`` at every radius in ``radius`` (centre line of
     the first thread), as arrays.
 
     ``lower_span`` restricts the headroom to the points of the first storey (with the
     half landing below it, and above it, when the flags say that storey is the
     building's first or last): the search measures headroom storey by storey on
-    sub-projects of a few storeys."""
+    sub-projects of a few storeys.  ``headroom_only`` leaves out every other margin (the
+    search's headroom regions need no more; the headroom is the same)."""
     radius = np.atleast_1d(np.asarray(radius, float))
     rules, d, st = project.rules, project.design, project.structure
     v = project.vehicle
@@ -288,6 +289,8 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
         trans = _transitions(project, family, rc, land)
         bp, k = build_profiles(levels, plan, land, trans, d.transition_kind, d.landing_fall * rc)
         profiles.append(bp)
+        if headroom_only:
+            continue
         # Steepest slope by magnitude per storey: its run, its transitions (between the
         # run's and the landing's grade) and the landings at its ends, as the full check
         # measures every segment (a landing is held to the stricter of its storeys).
@@ -326,25 +329,29 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
             friction = np.maximum(friction, speed_kmh ** 2 / (127.0 * 0.5 * (a + b)) - e)
         conn_end = bp.t[:, 0] + 0.5 * land + plan.sum(axis=1)
         drive = np.maximum(drive, _batch_length(bp, rc, bp.t[:, 0] + 0.5 * land, conn_end) / n)
-    if rules.inner_kerb_radius is not None:
-        margins["inner_kerb_radius"] = inner_min - rules.inner_kerb_radius.value
-    if rules.outer_kerb_radius is not None:
-        margins["outer_kerb_radius"] = lane_outer_min - rules.outer_kerb_radius.value
-    if family.lanes == 2 and rules.lane_width_two_way is not None:
-        margins["lane_width"] = widths.sum(axis=1) - rules.lane_width_two_way.value
-    elif rules.lane_width_one_way is not None:
-        margins["lane_width"] = widths.min(axis=1) - rules.lane_width_one_way.value
-    margins["lane_width_swept"] = swept
-    # The same rule as the project loader: the centre-line radius must exceed the
-    # carriageway width (so the inner kerb lies at least half a carriageway out).
-    margins["geometry"] = radius - carriageway
-    if rules.side_friction_max is not None:
-        margins["side_friction"] = rules.side_friction_max.value - friction
-    if rules.cross_fall_min is not None:
-        margins["cross_fall"] = np.full(len(radius), abs(e) - rules.cross_fall_min.value)
-    outer = max(thread_rc, key=lambda a: float(np.max(a))) + 0.5 * carriageway
-    diameter = 2.0 * (outer + rules.clearance_outside() + st.wall_thickness)
-    margins["footprint"] = footprint_span(project.site) - diameter  # helix.plot: exact at the axis
+    if headroom_only:
+        margins = {}
+        diameter = np.full(len(radius), np.nan)
+    else:
+        if rules.inner_kerb_radius is not None:
+            margins["inner_kerb_radius"] = inner_min - rules.inner_kerb_radius.value
+        if rules.outer_kerb_radius is not None:
+            margins["outer_kerb_radius"] = lane_outer_min - rules.outer_kerb_radius.value
+        if family.lanes == 2 and rules.lane_width_two_way is not None:
+            margins["lane_width"] = widths.sum(axis=1) - rules.lane_width_two_way.value
+        elif rules.lane_width_one_way is not None:
+            margins["lane_width"] = widths.min(axis=1) - rules.lane_width_one_way.value
+        margins["lane_width_swept"] = swept
+        # The same rule as the project loader: the centre-line radius must exceed the
+        # carriageway width (so the inner kerb lies at least half a carriageway out).
+        margins["geometry"] = radius - carriageway
+        if rules.side_friction_max is not None:
+            margins["side_friction"] = rules.side_friction_max.value - friction
+        if rules.cross_fall_min is not None:
+            margins["cross_fall"] = np.full(len(radius), abs(e) - rules.cross_fall_min.value)
+        outer = max(thread_rc, key=lambda a: float(np.max(a))) + 0.5 * carriageway
+        diameter = 2.0 * (outer + rules.clearance_outside() + st.wall_thickness)
+        margins["footprint"] = footprint_span(project.site) - diameter  # helix.plot: exact at the axis
     if with_headroom:
         starts = [d.start_bearing, d.start_bearing + math.pi] if family.layout == "double" else \
             [d.start_bearing] * len(profiles)
@@ -810,7 +817,7 @@ class LayoutSpace:
 
         def fn(r):
             used[0] += len(r)
-            return screen(sub, fam, r, lower_span=span).margins["clear_height"] + MARGIN_TOL
+            return screen(sub, fam, r, lower_span=span, headroom_only=True).margins["clear_height"] + MARGIN_TOL
 
         def bound(lo, hi):
             return _headroom_change_bound(sub, fam, lo, hi)

@@ -66,6 +66,19 @@ def test_closed_form_headroom_equals_the_pointwise_form(case):
     assert np.all(np.abs(fast[both] - ref[both]) <= 1e-9)
 
 
+@settings(max_examples=60, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+@given(designs(), st.sampled_from([None, (True, False), (False, True), (True, True)]))
+def test_headroom_alone_equals_the_full_screen(case, span):
+    # Reference: the full screen, every margin computed, of which the headroom is one.
+    p, fam, radii = case
+    full = screen(p, fam, radii, lower_span=span)
+    alone = screen(p, fam, radii, lower_span=span, headroom_only=True)
+    assert np.array_equal(alone.headroom, full.headroom, equal_nan=True)
+    assert set(alone.margins) == ({"clear_height"} & set(full.margins))
+    for key, m in alone.margins.items():
+        assert np.array_equal(m, full.margins[key])
+
+
 @settings(max_examples=60, deadline=None, derandomize=True)
 @given(st.lists(st.tuples(st.floats(0.2, 6.0), st.floats(-1.0, 1.0), st.floats(-5.0, 0.0), st.floats(1e-4, 6.0)),
                 min_size=1, max_size=12))
