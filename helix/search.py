@@ -663,10 +663,9 @@ class _Shared:
     (the search space aside: :func:`helix.evaluate` never reads it), layout spaces by
     (project, layout, relaxed constraints), each layout's buildable range, kinks and
     radius-only margins piece by piece by (project, layout), and regions by
-    :func:`_regions_key`.  The
-    explanations search the same layouts again with one rule relaxed, and the verified
-    changes and wider turns meet the same designs again; each is a pure function of its
-    key, so the results are those of computing afresh."""
+    :func:`_regions_key`.  The explanations search the same layouts again with one rule
+    relaxed, and the verified changes and wider turns meet the same designs again; each
+    is a pure function of its key, so the results are those of computing afresh."""
 
     evaluations: dict = field(default_factory=dict)
     spaces: dict = field(default_factory=dict)
