@@ -655,6 +655,7 @@ class _Regions:
     headroom: dict = field(default_factory=dict)
     cells: dict = field(default_factory=dict)
     evaluations: dict = field(default_factory=dict)  # headroom key -> evaluations it took
+    switches: dict = field(default_factory=dict)  # (rise, turns, a, b) -> switch radii
 
 
 @dataclass
@@ -760,6 +761,14 @@ class LayoutSpace:
             self.value_memo[key] = float(sc.drive[0] if what == "drive" else sc.steepest["inner"][0])
         return self.value_memo[key]
 
+    def switch_radii(self, rise: float, turns: float, a: float, b: float) -> list[tuple[float, str]]:
+        """:func:`_switch_radii` of a storey of this layout, once for each argument."""
+        key = (rise, turns, a, b)
+        if key not in self.regions.switches:
+            fam = Family(self.layout, (turns,), self.widths)
+            self.regions.switches[key] = _switch_radii(self.project, fam, rise, turns, a, b)
+        return list(self.regions.switches[key])
+
     # --- each storey's gradient rules ------------------------------------------------
     def gradient_region(self, s: int, turns: float) -> IntervalSet:
         p = self.project
@@ -780,7 +789,7 @@ class LayoutSpace:
 
             parts: list = []
             for seg in self.base.parts:
-                cuts = sorted(_switch_radii(p, fam, rise, turns, seg.lo, seg.hi) + self.kinks)
+                cuts = sorted(self.switch_radii(rise, turns, seg.lo, seg.hi) + self.kinks)
                 for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, cuts, seg.lo_by, seg.hi_by):
                     parts.extend(_regions_of(fn, keys, lo, hi, lb, hb).parts)
             self.gradient_memo[key] = IntervalSet.union_of(parts)
@@ -825,7 +834,7 @@ class LayoutSpace:
         for seg in over.parts:
             cuts = list(self.kinks)
             for k, t in enumerate(turns):
-                cuts += _switch_radii(p, fam, levels[k + 1] - levels[k], t, seg.lo, seg.hi)
+                cuts += self.switch_radii(levels[k + 1] - levels[k], t, seg.lo, seg.hi)
             for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, sorted(cuts), seg.lo_by, seg.hi_by):
                 region, c = certified_region(fn, bound, lo, hi, "clear_height")
                 cells += c
