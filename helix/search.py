@@ -1531,11 +1531,20 @@ def design(project: Project) -> DesignResult:
     """
     if project.search is None or project.search.fixed:
         project = replace(project, search=default_space(project))
-    token = _SHARED.set(_Shared() if SHARING else None)
+    token = _SHARED.set(_Shared() if SHARING and _hashable(project) else None)
     try:
         return _design(project)
     finally:
         _SHARED.reset(token)
+
+
+def _hashable(project: Project) -> bool:
+    """Whether the project can key the memo (one built in code may hold a list)."""
+    try:
+        hash(project)
+    except TypeError:
+        return False
+    return True
 
 
 def _design(project: Project) -> DesignResult:
