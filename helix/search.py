@@ -32,6 +32,7 @@ change verified by searching and checking the changed project.
 from __future__ import annotations
 
 import math
+from contextvars import ContextVar
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -91,25 +92,64 @@ class Screen:
         return ok
 
 
-def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
-    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement).
-
-    Auto widths are exact (no rounding): the inner lane's need depends on where its
-    inner kerb lies, which depends on the widths, so they are the fixed point of that
-    map, reached by iteration (a contraction: the need changes by less than the kerb
-    moves, and the kerb moves by half the width change)."""
+def _width_terms(project: Project, family: Family) -> tuple[float, float, float, float]:
+    """The rule minimum of one lane's width, the kerb clearances inside and outside the
+    swept band, and the central kerb between two lanes."""
     rules = project.rules
-    lanes = family.lanes
-    if family.lane_widths is not None:
-        return np.broadcast_to(np.asarray(family.lane_widths, float), (len(radius), lanes)).copy()
-    if lanes == 2 and rules.lane_width_two_way is not None:
+    if family.lanes == 2 and rules.lane_width_two_way is not None:
         rule_min = 0.5 * rules.lane_width_two_way.value
     elif rules.lane_width_one_way is not None:
         rule_min = rules.lane_width_one_way.value
     else:
         rule_min = 0.0
     c_in, c_out = rules.kerb_clearances()
-    central = _central_kerb(project, family)
+    return rule_min, c_in, c_out, _central_kerb(project, family)
+
+
+def _lane_widths(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
+    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement).
+
+    Auto widths are exact (no rounding): the fixed point of :func:`_lane_widths_reference`.
+    One lane in closed form: with the inner kerb at ``e = R - w/2`` the width is the
+    largest of three maps of ``w``, each nondecreasing with a slope below 1 (the rule
+    minimum; the vehicle's rear axle on its tightest circle, ``K - e``; hugging the inner
+    kerb, ``hypot(e + c_in + W, L) + c_out - e``), so their one common fixed point is the
+    largest of their own: ``m``, ``2 (K - R)`` and ``2 (R - e_u)`` with ``e_u`` the root
+    of ``2R - c_out - e = hypot(e + c_in + W, L)``, which squared is linear in ``e``.
+    Each row's result is checked against the map once (residual 1e-12 m); a row that
+    fails, and every two-lane family, takes the reference iteration."""
+    if family.lane_widths is not None or family.lanes != 1 or not len(radius):
+        return _lane_widths_reference(project, family, radius)
+    from .turning import min_rear_axle_radius
+    v = project.vehicle
+    rule_min, c_in, c_out, _ = _width_terms(project, family)
+    radius = np.asarray(radius, float)
+    reach = v.wheelbase + v.front_overhang
+    p, q = 2.0 * radius - c_out, c_in + v.width
+    with np.errstate(divide="ignore", invalid="ignore"):
+        e_u = (p * p - q * q - reach * reach) / (2.0 * (p + q))
+    k = math.hypot(min_rear_axle_radius(v) + 0.5 * v.width, reach) + c_out
+    w = np.maximum(np.maximum(rule_min, 2.0 * (radius - e_u)), 2.0 * (k - radius))
+    # One more step of the map: its fixed point leaves the width where it is.
+    again = np.maximum(rule_min, _swept_need(v, radius - 0.5 * w, c_in, c_out))
+    bad = ~(np.abs(again - w) <= 1e-12 * np.maximum(1.0, w)) | ~(p + q > 0)
+    if np.any(bad):
+        w[bad] = _lane_widths_reference(project, family, radius[bad])[:, 0]
+    return w[:, None]
+
+
+def _lane_widths_reference(project: Project, family: Family, radius: np.ndarray) -> np.ndarray:
+    """(N, lanes) lane widths: fixed, or auto = max(rule minimum, swept requirement).
+
+    Auto widths are exact (no rounding): the inner lane's need depends on where its
+    inner kerb lies, which depends on the widths, so they are the fixed point of that
+    map, reached by iteration (a contraction: the need changes by less than the kerb
+    moves, and the kerb moves by half the width change).  The reference the closed form
+    of :func:`_lane_widths` is tested against, and the two-lane form."""
+    lanes = family.lanes
+    if family.lane_widths is not None:
+        return np.broadcast_to(np.asarray(family.lane_widths, float), (len(radius), lanes)).copy()
+    rule_min, c_in, c_out, central = _width_terms(project, family)
     v = project.vehicle
     w = np.full((len(radius), lanes), max(rule_min, v.width + c_in + c_out))
     for _ in range(200):
@@ -177,10 +217,13 @@ def _batch_length(bp: BatchProfile, r: np.ndarray, a: np.ndarray, b: np.ndarray)
     s1 = bp.k + bp.q * (hi - bp.t[:, :-1])
     rr = r[:, None]
     flat = (hi - lo) * np.hypot(rr, s0)
+    curving = np.abs(bp.q) > 1e-15
+    if not np.any(curving):  # straight grades only (segment transitions): no curved part
+        return np.sum(flat, axis=1)
     f = lambda s: 0.5 * (s * np.hypot(rr, s) + rr * rr * np.arcsinh(s / rr))
     with np.errstate(divide="ignore", invalid="ignore"):
         curved = (f(s1) - f(s0)) / bp.q
-    return np.sum(np.where(np.abs(bp.q) > 1e-15, curved, flat), axis=1)
+    return np.sum(np.where(curving, curved, flat), axis=1)
 
 
 def _reference_lines(g, rc: np.ndarray, ri: np.ndarray, lane_lines: list) -> list[np.ndarray]:
@@ -196,14 +239,15 @@ def _reference_lines(g, rc: np.ndarray, ri: np.ndarray, lane_lines: list) -> lis
 
 
 def screen(project: Project, family: Family, radius, with_headroom: bool = True,
-           lower_span: tuple[bool, bool] | None = None) -> Screen:
+           lower_span: tuple[bool, bool] | None = None, headroom_only: bool = False) -> Screen:
     """All search margins of ``family`` at every radius in ``radius`` (centre line of
     the first thread), as arrays.
 
     ``lower_span`` restricts the headroom to the points of the first storey (with the
     half landing below it, and above it, when the flags say that storey is the
     building's first or last): the search measures headroom storey by storey on
-    sub-projects of a few storeys."""
+    sub-projects of a few storeys.  ``headroom_only`` leaves out every other margin (the
+    search's headroom regions need no more; the headroom is the same)."""
     radius = np.atleast_1d(np.asarray(radius, float))
     rules, d, st = project.rules, project.design, project.structure
     v = project.vehicle
@@ -220,7 +264,7 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
     e = cross if d.cross_fall_inward else -cross
     margins: dict[str, np.ndarray] = {}
     steep = {"inner": np.zeros(len(radius)), "centre": np.zeros(len(radius)), "outer": np.zeros(len(radius))}
-    profiles = []
+    profiles: list[BatchProfile] = []
     drive = np.zeros(len(radius))
     thread_rc = _thread_radii(project, family, radius, carriageway)
     for g in rules.gradient:
@@ -233,13 +277,20 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
     friction = np.full(len(radius), -np.inf)
     c_in, c_out = rules.kerb_clearances()
     speed_kmh = 3.6 * (rules.design_speed.value if rules.design_speed else 15 / 3.6)
-    for rc in thread_rc:
+    for i, rc in enumerate(thread_rc):
+        if i and rc is thread_rc[0]:
+            # The double helix's second thread: the same radius, so the same alignment
+            # and margins (every sum below is a minimum or maximum: nothing changes).
+            profiles.append(profiles[0])
+            continue
         ri, ro = rc - 0.5 * carriageway, rc + 0.5 * carriageway
         inner_min = np.minimum(inner_min, ri)
         land = landing_len / rc
         trans = _transitions(project, family, rc, land)
         bp, k = build_profiles(levels, plan, land, trans, d.transition_kind, d.landing_fall * rc)
         profiles.append(bp)
+        if headroom_only:
+            continue
         # Steepest slope by magnitude per storey: its run, its transitions (between the
         # run's and the landing's grade) and the landings at its ends, as the full check
         # measures every segment (a landing is held to the stricter of its storeys).
@@ -278,25 +329,29 @@ def screen(project: Project, family: Family, radius, with_headroom: bool = True,
             friction = np.maximum(friction, speed_kmh ** 2 / (127.0 * 0.5 * (a + b)) - e)
         conn_end = bp.t[:, 0] + 0.5 * land + plan.sum(axis=1)
         drive = np.maximum(drive, _batch_length(bp, rc, bp.t[:, 0] + 0.5 * land, conn_end) / n)
-    if rules.inner_kerb_radius is not None:
-        margins["inner_kerb_radius"] = inner_min - rules.inner_kerb_radius.value
-    if rules.outer_kerb_radius is not None:
-        margins["outer_kerb_radius"] = lane_outer_min - rules.outer_kerb_radius.value
-    if family.lanes == 2 and rules.lane_width_two_way is not None:
-        margins["lane_width"] = widths.sum(axis=1) - rules.lane_width_two_way.value
-    elif rules.lane_width_one_way is not None:
-        margins["lane_width"] = widths.min(axis=1) - rules.lane_width_one_way.value
-    margins["lane_width_swept"] = swept
-    # The same rule as the project loader: the centre-line radius must exceed the
-    # carriageway width (so the inner kerb lies at least half a carriageway out).
-    margins["geometry"] = radius - carriageway
-    if rules.side_friction_max is not None:
-        margins["side_friction"] = rules.side_friction_max.value - friction
-    if rules.cross_fall_min is not None:
-        margins["cross_fall"] = np.full(len(radius), abs(e) - rules.cross_fall_min.value)
-    outer = max(thread_rc, key=lambda a: float(np.max(a))) + 0.5 * carriageway
-    diameter = 2.0 * (outer + rules.clearance_outside() + st.wall_thickness)
-    margins["footprint"] = footprint_span(project.site) - diameter  # helix.plot: exact at the axis
+    if headroom_only:
+        margins = {}
+        diameter = np.full(len(radius), np.nan)
+    else:
+        if rules.inner_kerb_radius is not None:
+            margins["inner_kerb_radius"] = inner_min - rules.inner_kerb_radius.value
+        if rules.outer_kerb_radius is not None:
+            margins["outer_kerb_radius"] = lane_outer_min - rules.outer_kerb_radius.value
+        if family.lanes == 2 and rules.lane_width_two_way is not None:
+            margins["lane_width"] = widths.sum(axis=1) - rules.lane_width_two_way.value
+        elif rules.lane_width_one_way is not None:
+            margins["lane_width"] = widths.min(axis=1) - rules.lane_width_one_way.value
+        margins["lane_width_swept"] = swept
+        # The same rule as the project loader: the centre-line radius must exceed the
+        # carriageway width (so the inner kerb lies at least half a carriageway out).
+        margins["geometry"] = radius - carriageway
+        if rules.side_friction_max is not None:
+            margins["side_friction"] = rules.side_friction_max.value - friction
+        if rules.cross_fall_min is not None:
+            margins["cross_fall"] = np.full(len(radius), abs(e) - rules.cross_fall_min.value)
+        outer = max(thread_rc, key=lambda a: float(np.max(a))) + 0.5 * carriageway
+        diameter = 2.0 * (outer + rules.clearance_outside() + st.wall_thickness)
+        margins["footprint"] = footprint_span(project.site) - diameter  # helix.plot: exact at the axis
     if with_headroom:
         starts = [d.start_bearing, d.start_bearing + math.pi] if family.layout == "double" else \
             [d.start_bearing] * len(profiles)
@@ -387,33 +442,60 @@ def _batch_margins(project: Project, family: Family, radii: np.ndarray, keys) ->
 
 
 def _regions_of(margins_fn, keys, a: float, b: float, a_by: str = "", b_by: str = "",
-                probes: int = 17) -> IntervalSet:
+                probes: int = 17, memo: dict | None = None) -> IntervalSet:
     """Radii of ``[a, b]`` where every margin in ``keys`` is met, each margin monotone
-    on ``[a, b]`` (checked at the probes): one Brent root per margin that changes sign."""
+    on ``[a, b]`` (checked at the probes): one Brent root per margin that changes sign.
+
+    ``memo`` keeps the probes' margins and each margin's own part of ``[a, b]`` (it
+    depends on that margin alone), for calls on the same piece with other ``keys``;
+    ``margins_fn`` must then give every margin any of those calls asks for."""
     if b < a:
         return IntervalSet()
+    piece = (a, b, a_by, b_by)
     xs = np.linspace(a, b, probes) if b > a else np.array([a])
-    vals = margins_fn(xs)
+    if memo is not None and piece in memo:
+        vals = memo[piece]
+    else:
+        vals = margins_fn(xs)
+        if memo is not None:
+            memo[piece] = vals
     region = IntervalSet.of(a, b, a_by, b_by)
     for key in keys:
         if key not in vals:
             continue
-        ok = vals[key] + MARGIN_TOL >= 0
-        if np.all(ok):
+        if memo is not None and (piece, key) in memo:
+            part = memo[(piece, key)]
+        else:
+            part = _region_of(margins_fn, key, vals[key], xs, piece)
+            if memo is not None:
+                memo[(piece, key)] = part
+        if part is None:  # met on all of it
             continue
-        if not np.any(ok):
+        if not part:
             return IntervalSet()
-        flips = np.flatnonzero(ok[1:] != ok[:-1])
-        if len(flips) > 1:
-            raise RegionError(f"{key}: not monotone on [{a:.6g}, {b:.6g}] m")
-        i = int(flips[0])
-        f = lambda r, key=key: float(margins_fn(np.array([r]))[key][0]) + MARGIN_TOL
-        lo, hi = _boundary(f, float(xs[i]), float(xs[i + 1]))
-        part = IntervalSet.of(a, lo, a_by, key) if ok[0] else IntervalSet.of(hi, b, key, b_by)
         region = region & part
         if not region:
             return region
     return region
+
+
+def _region_of(margins_fn, key: str, vals: np.ndarray, xs: np.ndarray, piece: tuple) -> IntervalSet | None:
+    """The part of the piece ``(a, b, a_by, b_by)`` where the margin ``key`` (``vals`` at
+    the probes ``xs``) is met: ``None`` for all of it, else an interval set (empty when
+    no probe meets it)."""
+    a, b, a_by, b_by = piece
+    ok = vals + MARGIN_TOL >= 0
+    if np.all(ok):
+        return None
+    if not np.any(ok):
+        return IntervalSet()
+    flips = np.flatnonzero(ok[1:] != ok[:-1])
+    if len(flips) > 1:
+        raise RegionError(f"{key}: not monotone on [{a:.6g}, {b:.6g}] m")
+    i = int(flips[0])
+    f = lambda r: float(margins_fn(np.array([r]))[key][0]) + MARGIN_TOL
+    lo, hi = _boundary(f, float(xs[i]), float(xs[i + 1]))
+    return IntervalSet.of(a, lo, a_by, key) if ok[0] else IntervalSet.of(hi, b, key, b_by)
 
 
 def _boundary(f, a: float, b: float) -> tuple[float, float]:
@@ -563,6 +645,70 @@ def _pieces(a: float, b: float, cuts: list[tuple[float, str]], a_by: str = "",
 
 
 @dataclass
+class _Regions:
+    """Each storey's gradient regions and headroom regions (with their bounded cells and
+    the headroom evaluations each took) of one layout space.  They depend only on what
+    :func:`_regions_key` names, so spaces that agree on it share one (see
+    :class:`_Shared`)."""
+
+    gradient: dict = field(default_factory=dict)
+    headroom: dict = field(default_factory=dict)
+    cells: dict = field(default_factory=dict)
+    evaluations: dict = field(default_factory=dict)  # headroom key -> evaluations it took
+    switches: dict = field(default_factory=dict)  # (rise, turns, a, b) -> switch radii
+
+
+@dataclass
+class _Shared:
+    """What one :func:`design` run computes once and reuses: full checks by project
+    (the search space aside: :func:`helix.evaluate` never reads it), layout spaces by
+    (project, layout, relaxed constraints), each layout's buildable range, kinks and
+    radius-only margins piece by piece by (project, layout), and regions by
+    :func:`_regions_key`.  The explanations search the same layouts again with one rule
+    relaxed, and the verified changes and wider turns meet the same designs again; each
+    is a pure function of its key, so the results are those of computing afresh."""
+
+    evaluations: dict = field(default_factory=dict)
+    spaces: dict = field(default_factory=dict)
+    regions: dict = field(default_factory=dict)
+    frames: dict = field(default_factory=dict)  # (project, layout) -> range, kinks, radius-only parts
+
+
+#: The memo of the current :func:`design` run (none outside one: direct calls of
+#: :func:`search_layout` compute afresh).
+_SHARED: ContextVar[_Shared | None] = ContextVar("helix_search_shared", default=None)
+#: Off: :func:`design` shares nothing (the reference the tests compare the memo with).
+SHARING = True
+
+
+def _regions_key(project: Project, layout: str, widths, base: IntervalSet, kinks: list, relax) -> tuple:
+    """What a layout space's gradient and headroom regions depend on: the project but
+    its search space (of which only the target gradient enters a margin), the layout and
+    lane widths, the radii they are found on (the base, with what bounds them, and the
+    kinks that cut it) and the relaxed rules other than the radius-only ones (those act
+    through the base alone)."""
+    return (replace(project, search=None), _space(project).target_gradient, layout, widths, base,
+            tuple(kinks), frozenset(relax) - frozenset(RADIUS_KEYS))
+
+
+def _evaluate(project: Project, vehicle: bool = True) -> Evaluation:
+    """:func:`helix.evaluate`, once per design in a :func:`design` run; a full check also
+    answers a request without the vehicle (that leaves out the vehicle's two checks
+    only, every other check is the same)."""
+    shared = _SHARED.get()
+    if shared is None:
+        return evaluate(project, vehicle=vehicle)
+    key = replace(project, search=None)
+    ev = shared.evaluations.get((key, True))
+    if ev is None and not vehicle:
+        ev = shared.evaluations.get((key, False))
+    if ev is None:
+        ev = evaluate(project, vehicle=vehicle)
+        shared.evaluations[(key, vehicle)] = ev
+    return ev if ev.project == project else replace(ev, project=project)
+
+
+@dataclass
 class LayoutSpace:
     """One layout's search: its fixed parts and the memo of each storey's regions."""
 
@@ -574,11 +720,20 @@ class LayoutSpace:
     base: IntervalSet  # buildable radii of the range that meet every radius-only rule
     notes: list[str]
     kinks: list = field(default_factory=list)  # radii where auto lane widths change regime
-    gradient_memo: dict = field(default_factory=dict)
-    headroom_memo: dict = field(default_factory=dict)
-    headroom_cells: dict = field(default_factory=dict)
+    regions: "_Regions" = field(default_factory=lambda: _Regions())
     value_memo: dict = field(default_factory=dict)
-    evaluations: int = 0
+
+    @property
+    def gradient_memo(self) -> dict:
+        return self.regions.gradient
+
+    @property
+    def headroom_memo(self) -> dict:
+        return self.regions.headroom
+
+    @property
+    def headroom_cells(self) -> dict:
+        return self.regions.cells
 
     def family(self, turns) -> Family:
         return Family(self.layout, tuple(float(t) for t in turns), self.widths)
@@ -606,6 +761,14 @@ class LayoutSpace:
             self.value_memo[key] = float(sc.drive[0] if what == "drive" else sc.steepest["inner"][0])
         return self.value_memo[key]
 
+    def switch_radii(self, rise: float, turns: float, a: float, b: float) -> list[tuple[float, str]]:
+        """:func:`_switch_radii` of a storey of this layout, once for each argument."""
+        key = (rise, turns, a, b)
+        if key not in self.regions.switches:
+            fam = Family(self.layout, (turns,), self.widths)
+            self.regions.switches[key] = _switch_radii(self.project, fam, rise, turns, a, b)
+        return list(self.regions.switches[key])
+
     # --- each storey's gradient rules ------------------------------------------------
     def gradient_region(self, s: int, turns: float) -> IntervalSet:
         p = self.project
@@ -626,7 +789,7 @@ class LayoutSpace:
 
             parts: list = []
             for seg in self.base.parts:
-                cuts = sorted(_switch_radii(p, fam, rise, turns, seg.lo, seg.hi) + self.kinks)
+                cuts = sorted(self.switch_radii(rise, turns, seg.lo, seg.hi) + self.kinks)
                 for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, cuts, seg.lo_by, seg.hi_by):
                     parts.extend(_regions_of(fn, keys, lo, hi, lb, hb).parts)
             self.gradient_memo[key] = IntervalSet.union_of(parts)
@@ -658,9 +821,11 @@ class LayoutSpace:
         fam = Family(self.layout, tuple(turns), self.widths)
         span = (s == 0, j == p.storeys - 1)
 
+        used = [0]
+
         def fn(r):
-            self.evaluations += len(r)
-            return screen(sub, fam, r, lower_span=span).margins["clear_height"] + MARGIN_TOL
+            used[0] += len(r)
+            return screen(sub, fam, r, lower_span=span, headroom_only=True).margins["clear_height"] + MARGIN_TOL
 
         def bound(lo, hi):
             return _headroom_change_bound(sub, fam, lo, hi)
@@ -669,7 +834,7 @@ class LayoutSpace:
         for seg in over.parts:
             cuts = list(self.kinks)
             for k, t in enumerate(turns):
-                cuts += _switch_radii(p, fam, levels[k + 1] - levels[k], t, seg.lo, seg.hi)
+                cuts += self.switch_radii(levels[k + 1] - levels[k], t, seg.lo, seg.hi)
             for lo, hi, lb, hb in _pieces(seg.lo, seg.hi, sorted(cuts), seg.lo_by, seg.hi_by):
                 region, c = certified_region(fn, bound, lo, hi, "clear_height")
                 cells += c
@@ -677,6 +842,7 @@ class LayoutSpace:
         out = IntervalSet.union_of(parts)
         self.headroom_memo[key] = out
         self.headroom_cells[key] = cells
+        self.regions.evaluations[key] = used[0]
         return out
 
 
@@ -763,6 +929,19 @@ class LayoutSearch:
 
 
 def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpace:
+    shared = _SHARED.get()
+    if shared is None:
+        return _new_layout_space(project, layout, relax)
+    key = (project, layout, frozenset(relax))
+    if key not in shared.spaces:
+        space = _new_layout_space(project, layout, relax)
+        space.regions = shared.regions.setdefault(
+            _regions_key(project, layout, space.widths, space.base, space.kinks, relax), space.regions)
+        shared.spaces[key] = space
+    return shared.spaces[key]
+
+
+def _new_layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpace:
     sp = _space(project)
     widths = _widths_for(project, layout)
     choices = storey_choices(project, layout)
@@ -770,7 +949,16 @@ def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpa
     notes = []
     from .units import format_length
     u = project.units
-    built = _buildable(project, fam0, sp.radius_min, sp.radius_max)
+    # What every relaxation of this layout shares: the buildable range, the kinks and
+    # each radius-only margin's part of every piece (in a design run's memo).
+    shared = _SHARED.get()
+    frame = None if shared is None else shared.frames.setdefault((project, layout), {})
+    if frame is not None and "built" in frame:
+        built = frame["built"]
+    else:
+        built = _buildable(project, fam0, sp.radius_min, sp.radius_max)
+        if frame is not None:
+            frame["built"] = built
     if built is None:
         return LayoutSpace(project, layout, widths, choices, frozenset(relax), IntervalSet(),
                            [f"no radius of {format_length(sp.radius_min, u)} to {format_length(sp.radius_max, u)} "
@@ -781,12 +969,19 @@ def _layout_space(project: Project, layout: str, relax=frozenset()) -> LayoutSpa
     sub = _sub(project, 0, 1)
     fam1 = Family(layout, (max(choices[0]),), widths)
     keys = [k for k in RADIUS_KEYS if k not in relax]
-    kinks = _kinks(project, fam1, built[0], built[1])
+    if frame is not None and "kinks" in frame:
+        kinks = frame["kinks"]
+    else:
+        kinks = _kinks(project, fam1, built[0], built[1])
+        if frame is not None:
+            frame["kinks"] = kinks
     parts: list = []
     low_by = "search range (minimum radius)" if built[0] <= sp.radius_min + TOL else "geometry"
-    margins = lambda r: _batch_margins(sub, fam1, r, keys)
+    wanted = keys if frame is None else list(RADIUS_KEYS)
+    margins = lambda r: _batch_margins(sub, fam1, r, wanted)
+    memo = None if frame is None else frame.setdefault("pieces", {})
     for lo, hi, lb, hb in _pieces(built[0], built[1], kinks, low_by, "search range (maximum radius)"):
-        parts.extend(_regions_of(margins, keys, lo, hi, lb, hb).parts)
+        parts.extend(_regions_of(margins, keys, lo, hi, lb, hb, memo=memo).parts)
     return LayoutSpace(project, layout, widths, choices, frozenset(relax), IntervalSet.union_of(parts),
                        notes, kinks)
 
@@ -818,6 +1013,8 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
     """
     objective = objective or _space(project).objective
     space = _layout_space(project, layout, relax)
+    notes = list(space.notes)  # this search's own (a shared space keeps its own)
+    windows: set = set()  # the headroom regions this search asked for
     n = project.storeys
     choices = space.choices
     combos = 1
@@ -827,7 +1024,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
     searched = {"turns_choices": [list(c) for c in choices], "combinations": combos}
     if not space.base:
         searched.update(nodes=0, headroom_windows=0)
-        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(space.notes))
+        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(notes))
     min_turns_after = [sum(min(c) for c in choices[s:]) for s in range(n + 1)]
 
     def value_at(r: float, turns: tuple) -> float:
@@ -880,7 +1077,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
                     best = ((value,) + key[1:], turns, region, r)
                 completed += 1
                 if completed >= max_complete:
-                    space.notes.append(f"largest headroom taken over the first {max_complete} complete choices "
+                    notes.append(f"largest headroom taken over the first {max_complete} complete choices "
                                        "of turns, in order of their bound; it may not be the largest")
                     break
                 continue
@@ -888,7 +1085,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
             break
         nodes += 1
         if nodes > max_nodes:
-            space.notes.append(f"search stopped after {max_nodes} partial designs; the result may not be the optimum")
+            notes.append(f"search stopped after {max_nodes} partial designs; the result may not be the optimum")
             break
         cum = sum(turns)
         for t in choices[s]:
@@ -903,6 +1100,7 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
             while reg and low <= s and (cums[s + 1] - cums[low + 1] >= 1.0 - 1e-9 or s == n - 1):
                 window = space.headroom_region(low, s, new_turns[low:s + 1])
                 if window is not None:
+                    windows.add(space.headroom_key(low, s, new_turns[low:s + 1]))
                     reg = reg & window
                     if objective == "headroom" and reg:
                         ub = min(ub, space.headroom_upper(low, s, new_turns[low:s + 1], reg))
@@ -911,16 +1109,16 @@ def search_layout(project: Project, layout: str, objective: str | None = None, r
                 continue
             counter += 1
             heapq.heappush(heap, (bound(reg, new_turns, ub), counter, new_turns, reg, low, ub))
-    searched.update(nodes=nodes, headroom_windows=len(space.headroom_memo),
-                    headroom_evaluations=space.evaluations)
+    searched.update(nodes=nodes, headroom_windows=len(windows),
+                    headroom_evaluations=sum(space.regions.evaluations[k] for k in windows))
     if best is None:
-        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(space.notes))
+        return LayoutSearch(layout, None, None, IntervalSet(), "", math.inf, searched, tuple(notes))
     key, turns, region, r = best
     fam = space.family(turns)
     binding = region.label_at(r) or next((label for k, label in space.kinks if abs(k - r) <= TOL), "") or (
         "clear_height (largest headroom)" if objective == "headroom" else "")
     value = float(_objective(screen(project, fam, [r]), objective)[0])
-    return LayoutSearch(layout, fam, float(r), region, binding, value, searched, tuple(space.notes))
+    return LayoutSearch(layout, fam, float(r), region, binding, value, searched, tuple(notes))
 
 
 def _best_headroom(space: LayoutSpace, turns: tuple, region: IntervalSet) -> tuple[float, float]:
@@ -1031,7 +1229,7 @@ def pareto_mask(points: np.ndarray) -> np.ndarray:
 def _full_check_margin(project: Project, family: Family, r: float, ids: set[str]) -> float:
     """The smallest margin of the checks ``ids`` at ``r`` (rolling the vehicle only
     when one of them needs it: it is the slow part)."""
-    ev = evaluate(family_project(project, family, r), vehicle=bool(ids & set(VEHICLE_KEYS)))
+    ev = _evaluate(family_project(project, family, r), vehicle=bool(ids & set(VEHICLE_KEYS)))
     margins = [c.margin for c in ev.checks if c.id in ids and c.margin is not None]
     return min(margins) if margins else math.inf
 
@@ -1067,7 +1265,7 @@ def _verified(project: Project, layout: str, objective: str | None = None,
 
 def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tuple[LayoutSearch, Evaluation, bool]:
     assert ls.family is not None and ls.radius is not None  # a feasible search names both
-    ev = evaluate(family_project(project, ls.family, ls.radius))
+    ev = _evaluate(family_project(project, ls.family, ls.radius))
     failing = [c.id for c in ev.checks if not c.ok and c.id not in relax]
     if not failing:
         return ls, ev, True
@@ -1093,7 +1291,7 @@ def _verify_family(project: Project, ls: LayoutSearch, objective, relax) -> tupl
             r = hi if fb >= 0 else lo
             if (fb >= 0) != low:  # the margin shrinks with the radius there
                 r = a if fa >= 0 else b
-        ev2 = evaluate(family_project(project, fam, r))
+        ev2 = _evaluate(family_project(project, fam, r))
         if ev2.ok:
             value = float(_objective(screen(project, fam, [r]), objective or _space(project).objective)[0])
             return replace(ls, radius=float(r), binding=failing[0], objective_value=value), ev2, True
@@ -1333,6 +1531,23 @@ def design(project: Project) -> DesignResult:
     """
     if project.search is None or project.search.fixed:
         project = replace(project, search=default_space(project))
+    token = _SHARED.set(_Shared() if SHARING and _hashable(project) else None)
+    try:
+        return _design(project)
+    finally:
+        _SHARED.reset(token)
+
+
+def _hashable(project: Project) -> bool:
+    """Whether the project can key the memo (one built in code may hold a list)."""
+    try:
+        hash(project)
+    except TypeError:
+        return False
+    return True
+
+
+def _design(project: Project) -> DesignResult:
     objective = _space(project).objective
     results = {}
     for layout in _space(project).layouts:
@@ -1373,7 +1588,7 @@ def design(project: Project) -> DesignResult:
                     tuple(e for e in expl if e.get("constraint") != "several")
             fam, r = (least[0], least[1]) if least else (ls.family, ls.radius)
             binding = f"least-failing: meets every rule but {least[2]}" if least else "infeasible"
-            row_ev = evaluate(family_project(project, fam, r)) if fam is not None and r is not None else None
+            row_ev = _evaluate(family_project(project, fam, r)) if fam is not None and r is not None else None
         value = float(_objective(screen(project, fam, [r]), objective)[0]) if fam is not None and r is not None \
             else math.inf
         options.append(Option(layout, fam, row_ev, binding, False, expl, value, ls.searched, ls.notes))
