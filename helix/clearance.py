@@ -62,6 +62,14 @@ def overhead_shifts(helix: Helix, i: int) -> list[tuple[int, float]]:
     return pairs
 
 
+def _unique(x: np.ndarray) -> np.ndarray:
+    """The sorted distinct values of ``x`` (as ``np.unique`` gives them for values
+    without NaN, without its import of ``numpy.ma`` on a first call: a tenth of the
+    time of a whole evaluation)."""
+    s = np.sort(np.asarray(x, float).ravel())
+    return s[np.concatenate([[True], s[1:] != s[:-1]])] if s.size else s
+
+
 def check_radii(thread: Thread) -> tuple[float, float, float]:
     """Radii at which headroom is evaluated: the gap is linear across the carriageway
     (cross-falls may differ between threads), so the kerbs and centre line bound it."""
@@ -177,7 +185,7 @@ class Overhead:
         this thread's own alignment (where the soffit begins and ends)."""
         own = self.helix.threads[self.i].profile.t
         pts = [own] + [self.helix.threads[j].profile.t - shift for j, shift in self.shifts]
-        return np.unique(np.concatenate(pts))
+        return _unique(np.concatenate(pts))
 
     @cached_property
     def curves(self) -> tuple[tuple[np.ndarray, ...], ...]:
@@ -200,7 +208,7 @@ def _critical_angles(helix: Helix, i: int) -> np.ndarray:
     shifts = overhead_shifts(helix, i)
     for j, shift in shifts:
         pts.append(helix.threads[j].profile.t - shift)
-    grid = np.unique(np.clip(np.concatenate(pts), t.profile.start, t.profile.end))
+    grid = _unique(np.clip(np.concatenate(pts), t.profile.start, t.profile.end))
     extra = []
     eps = 1e-9
     for j, shift in shifts:
@@ -213,7 +221,7 @@ def _critical_angles(helix: Helix, i: int) -> np.ndarray:
         if np.any(cross):
             extra.append(a[cross] + (b[cross] - a[cross]) * da[cross] / (da[cross] - db[cross]))
     # Both sides of each breakpoint: the overhead surface may change there.
-    return np.unique(np.concatenate([grid, grid[1:-1] - eps, grid[1:-1] + eps, *extra]))
+    return _unique(np.concatenate([grid, grid[1:-1] - eps, grid[1:-1] + eps, *extra]))
 
 
 def minimum_headroom(helix: Helix, structure: Structure) -> HeadroomPoint | None:

@@ -24,6 +24,7 @@ Mathematical Functions* (1964), 3.3.43.  Gauss-Legendre quadrature: ibid., 25.4.
 """
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -35,7 +36,10 @@ from .geometry import TWO_PI, Helix, Thread
 
 __all__ = ["strip_area", "deck_area", "Quantities", "quantities"]
 
-_GL_X, _GL_W = np.polynomial.legendre.leggauss(32)
+@functools.cache
+def _gauss_legendre() -> tuple[np.ndarray, np.ndarray]:
+    # On first use: numpy.polynomial takes longer to import than a design takes to check.
+    return np.polynomial.legendre.leggauss(32)
 
 
 def _f(x: float | np.ndarray, s: float | np.ndarray) -> np.ndarray:
@@ -72,9 +76,10 @@ def deck_area(profile: Profile, r1: float, r2: float, cross_fall: float = 0.0,
         if abs(profile.q[j]) < 1e-15:
             total += (hi - lo) * float(strip_area(r1, r2, profile.k[j], cross_fall))
         else:
-            theta = 0.5 * (hi + lo) + 0.5 * (hi - lo) * _GL_X
+            gl_x, gl_w = _gauss_legendre()
+            theta = 0.5 * (hi + lo) + 0.5 * (hi - lo) * gl_x
             s = profile.k[j] + profile.q[j] * (theta - profile.t[j])
-            total += 0.5 * (hi - lo) * float(np.sum(_GL_W * strip_area(r1, r2, s, cross_fall)))
+            total += 0.5 * (hi - lo) * float(np.sum(gl_w * strip_area(r1, r2, s, cross_fall)))
     return total
 
 
