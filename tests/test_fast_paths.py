@@ -19,7 +19,7 @@ from hypothesis import HealthCheck, given, settings, strategies as st
 import helix
 from helix import batch, search
 from helix.errors import Node
-from helix.project import Level
+from strategies import storeys
 from helix.rules import load_rule_set
 from helix.vehicle import load_vehicle
 from helix.roots import brent_minimum, brent_minimum_many
@@ -32,9 +32,8 @@ VEHICLES = ["aashto-p", "large-suv", "high-van", "low-sports-car"]
 @st.composite
 def designs(draw):
     p = helix.load_project(helix.demo_file(draw(st.sampled_from(["demo-metric", "demo-double", "demo-search"]))))
-    n = draw(st.integers(1, 5))
-    heights = [draw(st.floats(2.4, 5.0)) for _ in range(n)]
-    levels = tuple(Level(f"L{i}", float(sum(heights[:i]))) for i in range(n + 1))
+    levels = storeys(draw, 5, 2.4, 5.0)
+    n = len(levels) - 1
     layout = draw(st.sampled_from(["single-one-way", "single-two-way", "double", "concentric"]))
     turns = tuple(draw(st.sampled_from([0.5, 0.75, 1.0, 1.5, 2.0])) for _ in range(n))
     design = replace(p.design, turns_per_storey=turns,
@@ -126,9 +125,8 @@ def test_closed_form_lane_width_equals_the_iteration(case):
 @st.composite
 def double_helices(draw):
     p = helix.load_project(helix.demo_file(draw(st.sampled_from(["demo-double", "demo-search"]))))
-    n = draw(st.integers(1, 4))
-    heights = [draw(st.floats(2.4, 5.0)) for _ in range(n)]
-    levels = tuple(Level(f"L{i}", float(sum(heights[:i]))) for i in range(n + 1))
+    levels = storeys(draw, 4, 2.4, 5.0)
+    n = len(levels) - 1
     turns = tuple(draw(st.sampled_from([0.5, 0.75, 1.0])) for _ in range(n))
     # Long landings on small radii leave flat half turns (the threads touch), falling
     # landings make the alignment fall: the cases where no surface may be left out.

@@ -22,18 +22,17 @@ from hypothesis import HealthCheck, given, settings, strategies as st
 import helix
 from helix.approach import TWO_PI, approach_lines, measure_approach, measure_approaches, overhead_clear
 from helix.clearance import Overhead, headroom, overhead_shifts
-from helix.evaluate import build_helix, vehicle_clearances, vehicle_positions
-from helix.project import Level
+from helix.evaluate import build_helix, vehicle_positions
 from helix.vehicle_clearance import PathProfile, minimum_clearance, minimum_clearances
+from strategies import storeys
 
 
 @st.composite
 def projects(draw):
     """Demo projects with their storeys, turns, landings, transitions and cover varied."""
     p = helix.load_project(helix.demo_file(draw(st.sampled_from(["demo-metric", "demo-double", "demo-imperial"]))))
-    n = draw(st.integers(1, 3))
-    heights = [draw(st.floats(2.6, 4.0)) for _ in range(n)]
-    levels = tuple(Level(f"L{i}", float(sum(heights[:i]))) for i in range(n + 1))
+    levels = storeys(draw, 3, 2.6, 4.0)
+    n = len(levels) - 1
     turns = tuple(draw(st.sampled_from([0.75, 1.0, 1.25])) for _ in range(n))
     design = replace(p.design, turns_per_storey=turns,
                      landing_length=draw(st.sampled_from([None, 0.0, 4.0])),
