@@ -2,9 +2,11 @@
 their rows together, TrueType text, and every page legible at print size."""
 from __future__ import annotations
 
+import io
 import re
 import shutil
 import subprocess
+import zlib
 
 import pytest
 
@@ -245,6 +247,33 @@ def test_pdf_text_is_truetype(demos, path):
     assert kinds <= {"TrueType", "Type0", "CIDFontType2"}, kinds
     if "Type0" in kinds:
         assert b"/CIDFontType2" in pdf
+
+
+def _embedded_fonts(pdf: bytes) -> list[bytes]:
+    """The font programs of every /FontFile2 stream (ISO 32000-1:2008, 9.9), inflated."""
+    fonts = []
+    for number in re.findall(rb"/FontFile2\s+(\d+)\s+0\s+R", pdf):
+        obj = re.search(rb"\n" + number + rb"\s+0\s+obj\s*<<(.*?)>>\s*stream\r?\n", pdf, re.S)
+        assert obj is not None
+        length = int(re.search(rb"/Length\s+(\d+)", obj.group(1)).group(1))
+        data = pdf[obj.end():obj.end() + length]
+        fonts.append(zlib.decompress(data) if b"/FlateDecode" in obj.group(1) else data)
+    return fonts
+
+
+def test_embedded_fonts_are_whole_truetype_without_layout_tables(demos):
+    # Reference: fontTools reads every embedded program as a TrueType font with its
+    # outlines and metrics; the glyph substitution and positioning tables, which a PDF
+    # viewer never reads (ISO 32000-1:2008, 9.4.4: the PDF places each glyph), are left
+    # out of the subsets.
+    from fontTools.ttLib import TTFont
+    fonts = _embedded_fonts(demos["configs/demo-metric.yaml"]["pdf"])
+    assert fonts
+    for program in fonts:
+        font = TTFont(io.BytesIO(program))
+        assert {"glyf", "loca", "hmtx", "head"} <= set(font.keys())
+        assert not {"GSUB", "GPOS", "GDEF", "kern"} & set(font.keys())
+        assert font["maxp"].numGlyphs > 1
 
 
 @pytest.mark.skipif(shutil.which("pdftotext") is None, reason="pdftotext (poppler-utils) is not installed")
