@@ -275,13 +275,14 @@ class _Aisles:
             self.vert[i, :m] = line.vertices[:-1]
             self.unit[i, :m] = seg / lens[:, None]
             self.ends[i, :m + 1] = np.concatenate([[0.0], np.cumsum(lens)])
+        self.segments = np.array([len(line.vertices) - 1 for line in lines])
         self.floor = np.array([line.floor_level for line in lines])
         self.grade = np.array([line.grade for line in lines])
 
     def at(self, n: np.ndarray, d: np.ndarray, offset: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        # The segment: how many of the line's interior segment ends lie at or before d.
-        j = np.sum(self.ends[n, 1:-1] <= d[:, None], axis=1) if self.ends.shape[1] > 2 else np.zeros(len(n), int)
-        j = np.minimum(j, np.sum(np.isfinite(self.ends[n]), axis=1) - 2)
+        # The segment: how many of the line's segment ends (after its first) lie at or
+        # before d, at most its last segment.
+        j = np.minimum(np.sum(self.ends[n, 1:-1] <= d[:, None], axis=1), self.segments[n] - 1)
         u = self.unit[n, j]
         p = self.vert[n, j] + u * (d - self.ends[n, j])[:, None]
         normal = np.stack([-u[:, 1], u[:, 0]], axis=1)

@@ -64,17 +64,12 @@ class PathProfile:
         return self.radius * (self.profile.end - self.profile.start)
 
     def z(self, s) -> np.ndarray:
-        p = self.profile
-        theta = p.start + np.asarray(s, float) / self.radius
         # Beyond the ends of the thread the floor continues level.
-        return p.level(np.clip(theta, p.start, p.end))
+        return _z(self.profile, np.asarray(s, float), self.radius)
 
     def grade(self, s) -> np.ndarray:
         """Gradient along the path at ``s`` (0 on the floor beyond the thread's ends)."""
-        p = self.profile
-        theta = p.start + np.asarray(s, float) / self.radius
-        inside = (theta >= p.start) & (theta <= p.end)
-        return np.where(inside, p.slope(np.clip(theta, p.start, p.end)) / self.radius, 0.0)
+        return _grade(self.profile, np.asarray(s, float), self.radius)
 
     def theta(self, s) -> np.ndarray:
         return self.profile.start + np.asarray(s, float) / self.radius
@@ -118,16 +113,17 @@ class GroundContact:
 # (True: facing up the ramp), so all the paths and both facings of a thread share each
 # numpy call.  On one path this is exactly the single-path computation, row by row.
 
-def _column(r: np.ndarray, s: np.ndarray) -> np.ndarray:
-    return r if s.ndim == 1 else r.reshape((-1,) + (1,) * (s.ndim - 1))
+def _column(r, s: np.ndarray):
+    """One radius for all of ``s``, or one per row of it, shaped to broadcast."""
+    return r if np.ndim(r) == 0 or s.ndim == 1 else r.reshape((-1,) + (1,) * (s.ndim - 1))
 
 
-def _z(p: Profile, s: np.ndarray, r: np.ndarray) -> np.ndarray:
+def _z(p: Profile, s: np.ndarray, r) -> np.ndarray:
     """Level at ``s`` along each row's path; the floor continues level beyond the ends."""
     return p.level(np.clip(p.start + s / _column(r, s), p.start, p.end))
 
 
-def _grade(p: Profile, s: np.ndarray, r: np.ndarray) -> np.ndarray:
+def _grade(p: Profile, s: np.ndarray, r) -> np.ndarray:
     rr = _column(r, s)
     theta = p.start + s / rr
     inside = (theta >= p.start) & (theta <= p.end)

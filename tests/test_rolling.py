@@ -43,13 +43,11 @@ def projects(draw):
 
 
 def _z(p, s, r):
-    return p.level(np.clip(p.start + s / r, p.start, p.end))
+    return PathProfile(p, r).z(s)
 
 
 def _grade(p, s, r):
-    th = p.start + s / r
-    inside = (th >= p.start) & (th <= p.end)
-    return np.where(inside, p.slope(np.clip(th, p.start, p.end)) / r, 0.0)
+    return PathProfile(p, r).grade(s)
 
 
 def _brute_rolls(vehicle, p, r, overhead=None, step=0.02, samples=300):
